@@ -1,0 +1,46 @@
+# Patina: the two commands a newcomer needs are `make demo` and `make test`.
+GO       ?= go
+BUILD    := build
+BIN      := $(BUILD)/patina
+REV      := $(shell git rev-parse --short=12 HEAD 2>/dev/null)
+LDFLAGS  := -X main.revision=$(REV)
+DEMO_DIR := $(BUILD)/demo
+
+.PHONY: all deps build build-nogui demo test vet fmt-check bench fuzz clean
+
+all: build
+
+deps:
+	@.ci/deps.sh
+
+build: deps
+	$(GO) build -buildvcs=auto -ldflags "$(LDFLAGS)" -o $(BIN) ./cmd/patina
+
+build-nogui:
+	CGO_ENABLED=0 $(GO) build -tags nogui -buildvcs=auto -ldflags "$(LDFLAGS)" -o $(BUILD)/patina-nogui ./cmd/patina
+
+# The main job on the built-in scenario.
+demo: build
+	@.ci/demo.sh $(BIN) $(DEMO_DIR)
+
+test: deps vet fmt-check
+	$(GO) test -timeout 20m ./...
+
+vet:
+	$(GO) vet ./...
+
+fmt-check:
+	@out=$$(gofmt -l $$(git ls-files '*.go' 2>/dev/null || find . -name '*.go')); \
+	if [ -n "$$out" ]; then echo "gofmt would change:"; echo "$$out"; exit 1; fi
+
+# Benchmarks: figures are goals, quoted as medians; compare runs with benchstat.
+bench: deps
+	$(GO) test -run '^$$' -bench . -benchmem -count 5 ./... | tee $(BUILD)/bench.txt
+
+# Fuzz every target for FUZZTIME each (default 60s).
+FUZZTIME ?= 60s
+fuzz:
+	@.ci/fuzz.sh $(FUZZTIME)
+
+clean:
+	rm -rf $(BUILD)
