@@ -11,9 +11,12 @@ debs=(
   python3 python3-numpy python3-scipy        # reference cross-checks (run with /usr/bin/python3)
   python3-opencv python3-skimage python3-meshio
   libembree-dev                              # side-by-side ray throughput reference
-  nodejs npm                                 # npm reference packages (bunny mesh, glTF validator)
   chromium                                   # the report opened in a real browser
 )
+# Node.js and npm may come from another packaging of Node (which bundles npm
+# and conflicts with Debian's npm package): ask for them only when absent.
+command -v node >/dev/null 2>&1 || debs+=(nodejs)
+command -v npm >/dev/null 2>&1 || debs+=(npm)
 
 missing=()
 if command -v dpkg-query >/dev/null 2>&1; then
