@@ -1,0 +1,316 @@
+package render
+
+import "math"
+
+// Hit describes the closest intersection of a ray with a scene.
+type Hit struct {
+	T      float64 // distance along the ray (the ray's direction is unit)
+	Tri    int32   // mesh triangle index
+	B1, B2 float64 // barycentric coordinates of the triangle's vertices 1 and 2
+	P      Vec3    // hit point O + T D
+	Ng     Vec3    // unit geometric normal, (v1-v0) x (v2-v0) as wound; not turned to face the ray
+	Ns     Vec3    // unit interpolated shading normal; Ng when the mesh has no normals
+	UV     [2]float64
+	// Segment is the triangle's segment (an index into the mesh's
+	// SegmentLabels), or 0 when the mesh has no segments.
+	Segment int32
+}
+
+// stackSize bounds the traversal stack; the build keeps the tree shallower.
+const stackSize = 128
+
+type stackEntry struct {
+	node int32
+	t    float32 // entry distance of the node's box, for culling on pop
+}
+
+// boxPad widens the far slab distances so the float32 box test never
+// rejects a box the ray touches: 1 + 2 gamma(3) with gamma(n) =
+// n u / (1 - n u), u = 2^-24 (Ize, "Robust BVH ray traversal", JCGT 2(2),
+// 2013, section 3.3; the float32 counterpart of its double-precision bound).
+var boxPad = float32(1 + 2*(3*0x1p-24)/(1-3*0x1p-24))
+
+// rayQuery holds a ray prepared for traversal: float32 origin and
+// reciprocal direction for the box tests, and the shear of the watertight
+// triangle test (Woop, Benthin, Wald, "Watertight ray/triangle
+// intersection", JCGT 2(1), 2013, section 3).
+type rayQuery struct {
+	ox, oy, oz    float32 // origin, rounded to float32; the triangle test uses the same point
+	idx, idy, idz float32 // reciprocal direction, clamped to finite values
+	nx, ny, nz    uint    // offsets of the near slab planes in a child box (0..2 or 3..5)
+	// Woop et al.: kz is the dominant axis of D, kx and ky the other two
+	// (swapped when D[kz] < 0 to keep the winding); S shears D onto +z.
+	kx, ky, kz    uint
+	sx, sy, sz    float64
+	okx, oky, okz float64 // origin permuted by (kx, ky, kz)
+	tmax          float64 // current upper bound (exclusive)
+	tmax32        float32 // tmax rounded up to float32, for box culling
+	// closest hit so far
+	hitIndex int32 // index into Scene.tris, -1 if none
+	u, v, w  float64
+}
+
+// init prepares the query and reports whether the ray can hit anything.
+func (q *rayQuery) init(r Ray, tmax float64) bool {
+	d := r.D
+	if !(tmax > 0) || math.IsNaN(d.X+d.Y+d.Z) || math.IsInf(d.X+d.Y+d.Z, 0) ||
+		math.IsNaN(r.O.X+r.O.Y+r.O.Z) || math.IsInf(r.O.X+r.O.Y+r.O.Z, 0) {
+		return false
+	}
+	ax, ay, az := math.Abs(d.X), math.Abs(d.Y), math.Abs(d.Z)
+	var kz uint
+	switch {
+	case ax >= ay && ax >= az:
+		kz = 0
+	case ay >= az:
+		kz = 1
+	default:
+		kz = 2
+	}
+	dk := [3]float64{d.X, d.Y, d.Z}
+	if dk[kz] == 0 {
+		return false // zero direction
+	}
+	kx := (kz + 1) % 3
+	ky := (kx + 1) % 3
+	if dk[kz] < 0 {
+		kx, ky = ky, kx
+	}
+	q.kx, q.ky, q.kz = kx, ky, kz
+	q.sx = dk[kx] / dk[kz]
+	q.sy = dk[ky] / dk[kz]
+	q.sz = 1 / dk[kz]
+	q.ox, q.oy, q.oz = float32(r.O.X), float32(r.O.Y), float32(r.O.Z)
+	o := [3]float64{float64(q.ox), float64(q.oy), float64(q.oz)}
+	q.okx, q.oky, q.okz = o[kx], o[ky], o[kz]
+	q.idx, q.idy, q.idz = recip32(d.X), recip32(d.Y), recip32(d.Z)
+	q.nx, q.ny, q.nz = 0, 1, 2
+	if q.idx < 0 {
+		q.nx = 3
+	}
+	if q.idy < 0 {
+		q.ny = 4
+	}
+	if q.idz < 0 {
+		q.nz = 5
+	}
+	q.hitIndex = -1
+	q.setTmax(tmax)
+	return true
+}
+
+// recip32 returns 1/d in float32, clamped to +-1e30 so that a zero
+// component gives no 0*Inf NaN in the slab test (a ray in a slab's plane
+// then counts as inside it, the conservative answer).
+func recip32(d float64) float32 {
+	r := 1 / d // +-Inf for +-0
+	return float32(min(max(r, -1e30), 1e30))
+}
+
+func (q *rayQuery) setTmax(t float64) {
+	q.tmax = t
+	t32 := float32(t)
+	if float64(t32) < t {
+		t32 = math.Nextafter32(t32, float32(math.Inf(1)))
+	}
+	q.tmax32 = t32
+}
+
+// Intersect finds the closest intersection of r with the scene at a
+// distance in (0, tmax) and stores it in h. It reports whether there is
+// one; on a miss h is left unchanged. It does not allocate.
+func (s *Scene) Intersect(r Ray, tmax float64, h *Hit) bool {
+	var q rayQuery
+	if !q.init(r, tmax) {
+		return false
+	}
+	s.traverse(&q, false)
+	if q.hitIndex < 0 {
+		return false
+	}
+	s.fillHit(r, &q, h)
+	return true
+}
+
+// Occluded reports whether r hits any triangle at a distance in (0, tmax),
+// for shadow rays. It does not allocate.
+func (s *Scene) Occluded(r Ray, tmax float64) bool {
+	var q rayQuery
+	if !q.init(r, tmax) {
+		return false
+	}
+	return s.traverse(&q, true)
+}
+
+// traverse walks the BVH front to back (nearer child first, the farther one
+// on a fixed stack, culled on pop by its entry distance). With anyHit it
+// returns at the first hit.
+func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
+	nodes := s.nodes
+	tris := s.tris
+	if len(nodes) == 0 || len(tris) == 0 {
+		return false
+	}
+	ox, oy, oz := q.ox, q.oy, q.oz
+	idx, idy, idz := q.idx, q.idy, q.idz
+	nx, ny, nz := q.nx, q.ny, q.nz
+	if nx > 3 || ny > 4 || nz > 5 {
+		return false // never: lets the compiler drop the box bounds checks
+	}
+	fx, fy, fz := 3-nx, 5-ny, 7-nz // far planes: min <-> max of the same axis
+	nx6, ny6, nz6, fx6, fy6, fz6 := nx+6, ny+6, nz+6, fx+6, fy+6, fz+6
+	if fx > 11 || fy > 11 || fz > 11 || nx6 > 11 || ny6 > 11 || nz6 > 11 || fx6 > 11 || fy6 > 11 || fz6 > 11 {
+		return false
+	}
+	var stack [stackSize]stackEntry
+	sp := 0
+	ni := int32(0)
+	for {
+		nd := &nodes[ni]
+		b := &nd.box
+		tmax := q.tmax32
+		t0n := max((b[nx]-ox)*idx, (b[ny]-oy)*idy, (b[nz]-oz)*idz, 0)
+		t0f := min(min((b[fx]-ox)*idx, (b[fy]-oy)*idy, (b[fz]-oz)*idz)*boxPad, tmax)
+		t1n := max((b[nx6]-ox)*idx, (b[ny6]-oy)*idy, (b[nz6]-oz)*idz, 0)
+		t1f := min(min((b[fx6]-ox)*idx, (b[fy6]-oy)*idy, (b[fz6]-oz)*idz)*boxPad, tmax)
+		hit0 := t0n <= t0f
+		hit1 := t1n <= t1f
+		c0, c1 := nd.child[0], nd.child[1]
+		if hit0 && c0 < 0 {
+			if q.leaf(tris, ^c0, nd.count[0], anyHit) && anyHit {
+				return true
+			}
+			hit0 = false
+		}
+		if hit1 && c1 < 0 {
+			if q.leaf(tris, ^c1, nd.count[1], anyHit) && anyHit {
+				return true
+			}
+			hit1 = false
+		}
+		if hit0 && hit1 {
+			if t1n < t0n {
+				c0, c1 = c1, c0
+				t0n, t1n = t1n, t0n
+			}
+			stack[sp&(stackSize-1)] = stackEntry{c1, t1n}
+			sp++
+			ni = c0
+			continue
+		}
+		if hit0 && t0n <= q.tmax32 {
+			ni = c0
+			continue
+		}
+		if hit1 && t1n <= q.tmax32 {
+			ni = c1
+			continue
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(stackSize-1)]
+			if e.t <= q.tmax32 {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// leaf tests the triangles tris[first:first+count] with the watertight test
+// of Woop, Benthin and Wald (JCGT 2(1), 2013), in float64 on the float32
+// vertices. Two triangles sharing an edge compute that edge's function from
+// the same transformed vertices and get exactly opposite values, so a ray
+// through the edge hits at least one of them.
+func (q *rayQuery) leaf(tris []triVerts, first, count int32, anyHit bool) bool {
+	ts := tris[first : first+count]
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the bounds checks below
+	}
+	sx, sy, sz := q.sx, q.sy, q.sz
+	okx, oky, okz := q.okx, q.oky, q.okz
+	found := false
+	for i := range ts {
+		t := &ts[i]
+		// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+		az := float64(t[kz]) - okz
+		bz := float64(t[3+kz]) - okz
+		cz := float64(t[6+kz]) - okz
+		ax := float64(t[kx]) - okx - sx*az
+		ay := float64(t[ky]) - oky - sy*az
+		bx := float64(t[3+kx]) - okx - sx*bz
+		by := float64(t[3+ky]) - oky - sy*bz
+		cx := float64(t[6+kx]) - okx - sx*cz
+		cy := float64(t[6+ky]) - oky - sy*cz
+		// Scaled barycentrics: 2D edge functions (eq. 5).
+		u := cx*by - cy*bx
+		v := ax*cy - ay*cx
+		w := bx*ay - by*ax
+		if min(u, v, w) < 0 && max(u, v, w) > 0 {
+			continue
+		}
+		det := u + v + w
+		if det == 0 {
+			continue
+		}
+		tt := (u*az + v*bz + w*cz) * sz / det
+		if !(tt > 0 && tt < q.tmax) {
+			continue
+		}
+		if anyHit {
+			return true
+		}
+		found = true
+		q.hitIndex = first + int32(i)
+		q.u, q.v, q.w = u/det, v/det, w/det
+		q.setTmax(tt)
+	}
+	return found
+}
+
+// fillHit completes h from the query's closest hit.
+func (s *Scene) fillHit(r Ray, q *rayQuery, h *Hit) {
+	m := s.mesh
+	tri := s.triID[q.hitIndex]
+	h.T = q.tmax
+	h.Tri = tri
+	h.B1, h.B2 = q.v, q.w
+	h.P = r.At(q.tmax)
+	ix := m.Indices[3*int(tri) : 3*int(tri)+3 : 3*int(tri)+3]
+	p0 := vertex64(m.Positions, ix[0])
+	p1 := vertex64(m.Positions, ix[1])
+	p2 := vertex64(m.Positions, ix[2])
+	ng := p1.Sub(p0).Cross(p2.Sub(p0)).Norm()
+	h.Ng = ng
+	b0 := q.u
+	h.Ns = ng
+	if len(m.Normals) != 0 {
+		n := vertex64(m.Normals, ix[0]).Mul(b0).
+			Add(vertex64(m.Normals, ix[1]).Mul(q.v)).
+			Add(vertex64(m.Normals, ix[2]).Mul(q.w))
+		if l := n.Len(); l > 0 {
+			h.Ns = n.Mul(1 / l)
+		}
+	}
+	h.UV = [2]float64{}
+	if len(m.UVs) != 0 {
+		uv := m.UVs
+		for c := 0; c < 2; c++ {
+			h.UV[c] = float64(uv[2*ix[0]+uint32(c)])*b0 + float64(uv[2*ix[1]+uint32(c)])*q.v +
+				float64(uv[2*ix[2]+uint32(c)])*q.w
+		}
+	}
+	h.Segment = 0
+	if len(m.Segments) != 0 {
+		h.Segment = m.Segments[tri]
+	}
+}
+
+func vertex64(p []float32, i uint32) Vec3 {
+	v := p[3*i : 3*i+3 : 3*i+3]
+	return Vec3{float64(v[0]), float64(v[1]), float64(v[2])}
+}
