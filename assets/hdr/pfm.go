@@ -158,7 +158,7 @@ func decodePFM(r io.Reader, limit int) (*Image, *PFMInfo, error) {
 				if err := b.ioErr(); err != nil {
 					return nil, nil, fmt.Errorf("hdr: PFM scanline %d: %w", h-1-k, err)
 				}
-				return nil, nil, &FormatError{"PFM", 0, h - 1 - k, b.offset(), fmt.Sprintf(
+				return nil, nil, &FormatError{"PFM", 0, h - 1 - k, b.base + int64(b.end), fmt.Sprintf(
 					"pixel data ends in file row %d of %d (rows run bottom to top), expected %d bytes of samples after the header",
 					k, h, rowBytes*int64(h))}
 			}

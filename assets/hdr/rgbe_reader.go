@@ -307,7 +307,9 @@ func (d *rgbeDecoder) truncated(y int) error {
 	if err := d.b.ioErr(); err != nil {
 		return fmt.Errorf("hdr: RGBE scanline %d: %w", y, err)
 	}
-	return &FormatError{"RGBE", 0, y, d.b.offset(), fmt.Sprintf("pixel data ends in scanline %d of %d, expected more bytes", y, d.h)}
+	// The offset is the end of the input: the length of the file.
+	end := d.b.base + int64(d.b.end)
+	return &FormatError{"RGBE", 0, y, end, fmt.Sprintf("pixel data ends in scanline %d of %d, expected more bytes", y, d.h)}
 }
 
 var channelNames = [4]string{"red", "green", "blue", "exponent"}
