@@ -23,6 +23,13 @@ import (
 // into SegmentLabels. Every named segment also gets a header line
 // "comment segment N NAME", which ReadPLY reads back into Name.
 func WritePLY(w io.Writer, m *render.Mesh, format string) error {
+	return writePLY(w, m, format, true)
+}
+
+// writePLY is WritePLY, optionally without the face property segment (for
+// readers that cannot take scalar face properties in binary files, such as
+// meshio 5.0).
+func writePLY(w io.Writer, m *render.Mesh, format string, withSegment bool) error {
 	if format == "" {
 		format = "binary_little_endian"
 	}
@@ -87,7 +94,11 @@ func WritePLY(w io.Writer, m *render.Mesh, format string) error {
 	if hasUV {
 		bw.WriteString("property float s\nproperty float t\n")
 	}
-	fmt.Fprintf(bw, "element face %d\nproperty list uchar uint vertex_indices\nproperty int segment\nend_header\n", nt)
+	fmt.Fprintf(bw, "element face %d\nproperty list uchar uint vertex_indices\n", nt)
+	if withSegment {
+		bw.WriteString("property int segment\n")
+	}
+	bw.WriteString("end_header\n")
 
 	seg := func(t int) int32 {
 		if len(m.Segments) == 0 {
@@ -121,8 +132,10 @@ func WritePLY(w io.Writer, m *render.Mesh, format string) error {
 				buf = append(buf, ' ')
 				buf = strconv.AppendUint(buf, uint64(i), 10)
 			}
-			buf = append(buf, ' ')
-			buf = strconv.AppendInt(buf, int64(seg(t)), 10)
+			if withSegment {
+				buf = append(buf, ' ')
+				buf = strconv.AppendInt(buf, int64(seg(t)), 10)
+			}
 			buf = append(buf, '\n')
 			bw.Write(buf)
 		}
@@ -152,8 +165,12 @@ func WritePLY(w io.Writer, m *render.Mesh, format string) error {
 		bo.PutUint32(rec[1:], m.Indices[3*t])
 		bo.PutUint32(rec[5:], m.Indices[3*t+1])
 		bo.PutUint32(rec[9:], m.Indices[3*t+2])
-		bo.PutUint32(rec[13:], uint32(seg(t)))
-		bw.Write(rec[:17])
+		n := 13
+		if withSegment {
+			bo.PutUint32(rec[13:], uint32(seg(t)))
+			n = 17
+		}
+		bw.Write(rec[:n])
 	}
 	return bw.Flush()
 }
