@@ -16,7 +16,9 @@ import (
 
 const fixtures = "../../testdata/mesh"
 
-func near(a, b, tol float64) bool { return math.Abs(a-b) <= tol*math.Max(1, math.Max(math.Abs(a), math.Abs(b))) }
+func near(a, b, tol float64) bool {
+	return math.Abs(a-b) <= tol*math.Max(1, math.Max(math.Abs(a), math.Abs(b)))
+}
 
 // checkMesh asserts the render.Mesh invariants documented in render/mesh.go.
 func checkMesh(t *testing.T, m *render.Mesh) {
