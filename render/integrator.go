@@ -1,0 +1,460 @@
+package render
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"patina/brdf"
+)
+
+// Strategy selects which sampling techniques the path tracer combines for
+// light that can be reached both by sampling the BRDF and by sampling the
+// light (the environment and sphere lights). Point and directional lights
+// can only be reached by sampling the light and are sampled in every mode.
+type Strategy uint8
+
+const (
+	// MIS combines BRDF sampling and light sampling with the power
+	// heuristic (beta = 2) of Veach, "Robust Monte Carlo methods for light
+	// transport simulation", PhD thesis, Stanford 1997, section 9.2.4.
+	MIS Strategy = iota
+	// BRDFOnly finds the environment and sphere lights only by sampling
+	// the BRDF (for testing).
+	BRDFOnly
+	// LightOnly finds the environment and sphere lights only by sampling
+	// them (next-event estimation; for testing).
+	LightOnly
+)
+
+// String names the strategy.
+func (s Strategy) String() string {
+	switch s {
+	case MIS:
+		return "mis"
+	case BRDFOnly:
+		return "brdf"
+	case LightOnly:
+		return "light"
+	}
+	return fmt.Sprintf("Strategy(%d)", uint8(s))
+}
+
+// Settings control a render. The zero value is a usable default, field by
+// field.
+type Settings struct {
+	// SPP is the number of samples per pixel; 0 means 16.
+	SPP int
+	// MaxDepth is the largest number of scattering events on a path; 0
+	// means 8.
+	MaxDepth int
+	// Direct stops paths after the first scattering event: only light that
+	// reaches the visible surface directly from a light or the environment
+	// (with shadows) is rendered. It is the fit's forward model.
+	Direct bool
+	// Strategy chooses MIS (default), BRDF-only or light-only sampling.
+	Strategy Strategy
+	// RouletteDepth is the number of scattering events after which Russian
+	// roulette may end a path; 0 means 3.
+	RouletteDepth int
+	// Seed selects the random sequence; the same seed gives the same image,
+	// bit for bit, whatever Threads is.
+	Seed uint64
+	// Threads is the number of worker goroutines; 0 means GOMAXPROCS.
+	Threads int
+	// TileSize is the side of the square tiles handed to workers, in
+	// pixels; 0 means 16.
+	TileSize int
+	// TransparentBackground gives camera rays that miss the object alpha 0
+	// and no radiance, instead of showing the environment.
+	TransparentBackground bool
+	// OnPass, if set, is called after each progressive pass (1, 2, 4, ...
+	// samples per pixel, ending at SPP) on the goroutine that called
+	// Render, with the film as it stands; the film must not be kept or
+	// changed after the call returns.
+	OnPass func(Pass)
+	// OnProgress, if set, is called after each finished tile with the
+	// number of pixel samples done and the total; calls are serialised but
+	// come from worker goroutines, so keep it quick.
+	OnProgress func(done, total int64)
+}
+
+// Pass describes the film after one progressive pass.
+type Pass struct {
+	Index   int           // 0, 1, 2, ...
+	SPP     int           // samples per pixel so far
+	Film    *Film         // the image so far; Film.Variance gives per-pixel variance
+	Elapsed time.Duration // since Render started
+}
+
+// Render path-traces the scene seen by cam, lit by lights, with
+// materials[s] the reflectance of mesh segment s (the index Hit.Segment
+// reports), and returns the film. It renders in progressive passes of 1,
+// 2, 4, ... samples per pixel in parallel tiles; it returns ctx.Err() (and
+// the film so far) within one tile's time of a cancel.
+func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, materials []brdf.Params, s Settings) (*Film, error) {
+	if sc == nil || cam == nil {
+		return nil, errors.New("render: Render needs a scene and a camera")
+	}
+	if lights == nil {
+		lights = &Lights{}
+	}
+	if err := lights.Validate(); err != nil {
+		return nil, err
+	}
+	for i := range materials {
+		if err := materials[i].Validate(); err != nil {
+			return nil, fmt.Errorf("render: material of segment %d: %w", i, err)
+		}
+	}
+	if m := sc.Mesh(); m != nil {
+		need := max(1, len(m.SegmentLabels))
+		if len(materials) < need {
+			return nil, fmt.Errorf("render: the mesh has %d segments but %d materials were given", need, len(materials))
+		}
+	}
+	if s.SPP < 0 || s.MaxDepth < 0 || s.RouletteDepth < 0 || s.Threads < 0 || s.TileSize < 0 {
+		return nil, fmt.Errorf("render: negative setting (spp %d, depth %d, roulette %d, threads %d, tile %d)", s.SPP, s.MaxDepth, s.RouletteDepth, s.Threads, s.TileSize)
+	}
+	if s.Strategy > LightOnly {
+		return nil, fmt.Errorf("render: unknown strategy %d", s.Strategy)
+	}
+	if s.SPP == 0 {
+		s.SPP = 16
+	}
+	if s.MaxDepth == 0 {
+		s.MaxDepth = 8
+	}
+	if s.Direct {
+		s.MaxDepth = 1
+	}
+	if s.RouletteDepth == 0 {
+		s.RouletteDepth = 3
+	}
+	if s.Threads == 0 {
+		s.Threads = runtime.GOMAXPROCS(0)
+	}
+	if s.TileSize == 0 {
+		s.TileSize = 16
+	}
+	w, h := cam.Size()
+	film, err := NewFilm(w, h)
+	if err != nil {
+		return nil, err
+	}
+	it := &integrator{sc: sc, cam: cam, lights: lights.Lights, env: lights.Environment, mats: materials, s: s}
+	for i := range it.lights {
+		if it.lights[i].area() {
+			it.areas = append(it.areas, i)
+		}
+	}
+
+	ts := s.TileSize
+	tilesX, tilesY := (w+ts-1)/ts, (h+ts-1)/ts
+	nTiles := tilesX * tilesY
+	total := int64(w) * int64(h) * int64(s.SPP)
+	var done atomic.Int64
+	var progMu sync.Mutex
+	start := time.Now()
+
+	for pass, spp0 := 0, 0; spp0 < s.SPP; pass++ {
+		spp1 := min(max(1, 2*spp0), s.SPP)
+		var next atomic.Int64
+		var wg sync.WaitGroup
+		var failed atomic.Value
+		for t := 0; t < min(s.Threads, nTiles); t++ {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				var smp Sampler
+				for {
+					if ctx.Err() != nil {
+						return
+					}
+					k := int(next.Add(1) - 1)
+					if k >= nTiles {
+						return
+					}
+					x0, y0 := (k%tilesX)*ts, (k/tilesX)*ts
+					x1, y1 := min(x0+ts, w), min(y0+ts, h)
+					if err := it.tile(ctx, film, &smp, x0, y0, x1, y1, spp0, spp1); err != nil {
+						failed.CompareAndSwap(nil, err)
+						return
+					}
+					if s.OnProgress != nil {
+						n := done.Add(int64(x1-x0) * int64(y1-y0) * int64(spp1-spp0))
+						progMu.Lock()
+						s.OnProgress(n, total)
+						progMu.Unlock()
+					}
+				}
+			}()
+		}
+		wg.Wait()
+		if e := failed.Load(); e != nil {
+			return nil, e.(error)
+		}
+		if err := ctx.Err(); err != nil {
+			return film, err
+		}
+		film.SPP = spp1
+		if s.OnPass != nil {
+			s.OnPass(Pass{Index: pass, SPP: spp1, Film: film, Elapsed: time.Since(start)})
+		}
+		spp0 = spp1
+	}
+	return film, nil
+}
+
+// integrator holds what every path of one render shares.
+type integrator struct {
+	sc     *Scene
+	cam    Camera
+	lights []Light
+	areas  []int // indices of lights a BRDF-sampled ray can hit
+	env    *Environment
+	mats   []brdf.Params
+	s      Settings
+}
+
+// tile renders samples [spp0, spp1) of every pixel of a tile, in sample
+// order per pixel, so the sums are independent of scheduling.
+func (it *integrator) tile(ctx context.Context, film *Film, smp *Sampler, x0, y0, x1, y1, spp0, spp1 int) error {
+	for y := y0; y < y1; y++ {
+		if ctx.Err() != nil {
+			return nil
+		}
+		for x := x0; x < x1; x++ {
+			i := y*film.Width + x
+			for k := spp0; k < spp1; k++ {
+				smp.Start(it.s.Seed, x, y, uint32(k))
+				L, a, err := it.sample(smp, x, y)
+				if err != nil {
+					return err
+				}
+				film.add(i, L, a)
+			}
+		}
+	}
+	return nil
+}
+
+// powerHeuristic is Veach's power heuristic with beta = 2 for a sample
+// drawn from density pf, the other technique having density pg.
+func powerHeuristic(pf, pg float64) float64 {
+	if math.IsInf(pf, 1) {
+		return 1
+	}
+	f2, g2 := pf*pf, pg*pg
+	if f2+g2 == 0 {
+		return 0
+	}
+	return f2 / (f2 + g2)
+}
+
+// sample traces one camera path through pixel (x, y) and returns its
+// radiance and coverage.
+func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64, err error) {
+	// Box filter: a uniform position inside the pixel.
+	fx, fy := smp.Get2D()
+	ray, ok := it.cam.Ray(float64(x)+fx-0.5, float64(y)+fy-0.5)
+	if !ok {
+		return L, 0, nil
+	}
+	beta := brdf.RGB{1, 1, 1}
+	var prevP Vec3         // last scattering point
+	prevPdf := math.Inf(1) // BRDF density of the last bounce; +Inf for the camera ray
+	var h Hit
+	for depth := 0; ; depth++ {
+		hit := it.sc.Intersect(ray, math.Inf(1), &h)
+		tmax := math.Inf(1)
+		if hit {
+			tmax = h.T
+		}
+		// Sphere lights hit before the mesh.
+		li := -1
+		for _, k := range it.areas {
+			l := &it.lights[k]
+			if t, ok := raySphere(ray.O, ray.D, l.Position, l.Radius); ok && t < tmax {
+				tmax, li = t, k
+			}
+		}
+		if li >= 0 {
+			l := &it.lights[li]
+			w := 1.0
+			if depth > 0 {
+				switch it.s.Strategy {
+				case MIS:
+					w = powerHeuristic(prevPdf, l.pdf(prevP, ray.D))
+				case LightOnly:
+					w = 0
+				}
+			}
+			if depth == 0 {
+				alpha = 1
+			}
+			Le := l.radiance()
+			for c := 0; c < 3; c++ {
+				L[c] += beta[c] * Le[c] * w
+			}
+			return L, alpha, nil
+		}
+		if !hit {
+			if depth == 0 {
+				if it.s.TransparentBackground {
+					return L, 0, nil
+				}
+				alpha = 1
+			}
+			if it.env != nil {
+				w := 1.0
+				if depth > 0 {
+					switch it.s.Strategy {
+					case MIS:
+						w = powerHeuristic(prevPdf, it.env.PDF(ray.D))
+					case LightOnly:
+						w = 0
+					}
+				}
+				if w > 0 {
+					Le := it.env.Radiance(ray.D)
+					for c := 0; c < 3; c++ {
+						L[c] += beta[c] * Le[c] * w
+					}
+				}
+			}
+			return L, alpha, nil
+		}
+		if depth == 0 {
+			alpha = 1
+		}
+		if depth >= it.s.MaxDepth {
+			return L, alpha, nil
+		}
+		seg := int(h.Segment)
+		if seg < 0 || seg >= len(it.mats) {
+			return L, alpha, fmt.Errorf("render: the mesh has segment %d but only %d materials were given", seg, len(it.mats))
+		}
+		mat := &it.mats[seg]
+
+		// Two-sided surfaces: orient the normals towards the viewer.
+		ng, ns := h.Ng, h.Ns
+		if ng.Dot(ray.D) > 0 {
+			ng, ns = ng.Neg(), ns.Neg()
+		}
+		if ns.Dot(ray.D) >= 0 {
+			ns = ng // shading normal facing away: fall back to the true one
+		}
+		fr := NewFrame(ns)
+		wo := fr.ToLocal(ray.D.Neg())
+		p := offsetPoint(h.P, ng)
+
+		// Next-event estimation: one sample of every light.
+		for k := range it.lights {
+			l := &it.lights[k]
+			u0, u1 := smp.Get2D()
+			if l.area() && it.s.Strategy == BRDFOnly {
+				continue
+			}
+			ls, ok := l.sample(p, u0, u1)
+			if !ok || ls.wi.Dot(ng) <= 0 {
+				continue
+			}
+			wi := fr.ToLocal(ls.wi)
+			if wi.Z <= 0 {
+				continue
+			}
+			f := brdf.Eval(mat, wo, wi)
+			wgt := wi.Z
+			if ls.pdf > 0 {
+				wgt /= ls.pdf
+				if it.s.Strategy == MIS {
+					wgt *= powerHeuristic(ls.pdf, brdf.PDF(mat, wo, wi))
+				}
+			}
+			c := brdf.RGB{f[0] * ls.li[0] * wgt, f[1] * ls.li[1] * wgt, f[2] * ls.li[2] * wgt}
+			if c[0] <= 0 && c[1] <= 0 && c[2] <= 0 {
+				continue
+			}
+			if it.sc.Occluded(Ray{O: p, D: ls.wi}, shadowDistance(ls.dist)) {
+				continue
+			}
+			for j := 0; j < 3; j++ {
+				L[j] += beta[j] * c[j]
+			}
+		}
+		if it.env != nil {
+			u0, u1 := smp.Get2D()
+			if it.s.Strategy != BRDFOnly {
+				if d, Le, pdf := it.env.Sample(u0, u1); pdf > 0 && d.Dot(ng) > 0 {
+					wi := fr.ToLocal(d)
+					if wi.Z > 0 {
+						f := brdf.Eval(mat, wo, wi)
+						wgt := wi.Z / pdf
+						if it.s.Strategy == MIS {
+							wgt *= powerHeuristic(pdf, brdf.PDF(mat, wo, wi))
+						}
+						c := brdf.RGB{f[0] * Le[0] * wgt, f[1] * Le[1] * wgt, f[2] * Le[2] * wgt}
+						if (c[0] > 0 || c[1] > 0 || c[2] > 0) && !it.sc.Occluded(Ray{O: p, D: d}, math.Inf(1)) {
+							for j := 0; j < 3; j++ {
+								L[j] += beta[j] * c[j]
+							}
+						}
+					}
+				}
+			}
+		}
+
+		// BRDF sampling continues the path (and, with MIS or BRDF-only,
+		// finds the environment and sphere lights).
+		u := smp.Get3D()
+		wi, pdf, weight, ok := brdf.Sample(mat, wo, u)
+		if !ok {
+			return L, alpha, nil
+		}
+		d := fr.ToWorld(wi)
+		if d.Dot(ng) <= 0 {
+			return L, alpha, nil // below the true surface: no light leaks
+		}
+		for c := 0; c < 3; c++ {
+			beta[c] *= weight[c]
+		}
+		// Russian roulette (common practice): survive with probability
+		// equal to the largest throughput component, at least 5%.
+		rr := smp.Get1D()
+		if depth+1 >= it.s.RouletteDepth {
+			q := math.Min(1, math.Max(0.05, math.Max(beta[0], math.Max(beta[1], beta[2]))))
+			if rr >= q {
+				return L, alpha, nil
+			}
+			for c := 0; c < 3; c++ {
+				beta[c] /= q
+			}
+		}
+		prevP, prevPdf = p, pdf
+		ray = Ray{O: p, D: d}
+	}
+}
+
+// offsetPoint moves a hit point off its surface along the oriented
+// geometric normal by a margin relative to its coordinates, so that rays
+// leaving it do not hit the same triangle again (float32 vertices carry
+// about 1e-7 relative error).
+func offsetPoint(p, ng Vec3) Vec3 {
+	m := math.Max(math.Abs(p.X), math.Max(math.Abs(p.Y), math.Abs(p.Z)))
+	return p.AddScaled(ng, 1e-5*(1+m))
+}
+
+// shadowDistance shortens a shadow ray so that it stops short of the
+// light's own surface.
+func shadowDistance(d float64) float64 {
+	if math.IsInf(d, 1) {
+		return d
+	}
+	return d * (1 - 1e-6)
+}
