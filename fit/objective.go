@@ -1,0 +1,208 @@
+package fit
+
+import (
+	"math"
+	"sync"
+	"sync/atomic"
+
+	"patina/brdf"
+)
+
+var sqrt = math.Sqrt
+
+// chunkSize is the fixed number of observations per work item. Partial sums
+// are kept per chunk and added in chunk order, so the objective is bit for
+// bit the same whatever the number of threads (floating-point addition is
+// not associative; a reduction in scheduling order would not be).
+const chunkSize = 2048
+
+// objective is the robust photometric loss of one segment:
+//
+//	L(p) = 1/(3N) * sum over observations i and channels c of rho(r_ic)
+//	r_ic = log(m_ic(p) + eps) - log(max(o_ic, 0) + eps)
+//	m_ic = sum over light samples l of f_c(p, wo_i, wi_l) * E_lc
+//	rho(r) = delta^2 (sqrt(1 + (r/delta)^2) - 1)        (Charbonnier)
+//
+// Why a log residual: the observations of one segment span two or three
+// orders of magnitude between the diffuse body and a specular highlight, and
+// photographic noise and calibration error (exposure, light intensity) are
+// roughly proportional to the signal. An absolute residual would let the few
+// brightest pixels decide everything; the log residual weighs every pixel by
+// its relative error, and eps (the noise floor) keeps dark pixels, whose
+// relative error is noise, from dominating. Why Charbonnier: it is quadratic
+// for |r| << delta (the least-squares estimate when the model is right),
+// grows only linearly beyond (a clipped highlight the mask missed, a
+// registration error, a shadow edge cost a bounded pull), and unlike Huber it
+// is smooth everywhere, which quasi-Newton line searches prefer.
+type objective struct {
+	obs   *Observations
+	kind  brdf.Kind
+	np    int
+	eps   float64
+	delta float64
+	logO  [3][]float32 // log(max(o,0)+eps), precomputed
+
+	nchunks  int
+	partLoss []float64
+	partGrad [][brdf.MaxParams]float64
+
+	// The pass being evaluated, read by the workers.
+	params   brdf.Params
+	wantGrad bool
+	next     atomic.Int64
+
+	threads int
+	start   chan struct{}
+	done    chan struct{}
+	once    sync.Once
+
+	passes int // number of full passes evaluated
+}
+
+// newObjective prepares the loss of obs for a model kind. threads <= 1 runs
+// on the calling goroutine; otherwise a pool of workers is started that
+// close() stops.
+func newObjective(obs *Observations, kind brdf.Kind, eps, delta float64, threads int) *objective {
+	n := obs.Len()
+	o := &objective{
+		obs: obs, kind: kind, np: kind.NumParams(), eps: eps, delta: delta,
+		nchunks: (n + chunkSize - 1) / chunkSize,
+	}
+	o.partLoss = make([]float64, o.nchunks)
+	o.partGrad = make([][brdf.MaxParams]float64, o.nchunks)
+	for c, src := range [][]float32{obs.R, obs.G, obs.B} {
+		dst := make([]float32, n)
+		for i, v := range src {
+			dst[i] = float32(math.Log(math.Max(float64(v), 0) + eps))
+		}
+		o.logO[c] = dst
+	}
+	if threads > o.nchunks {
+		threads = o.nchunks
+	}
+	o.threads = threads
+	if threads > 1 {
+		o.start = make(chan struct{})
+		o.done = make(chan struct{})
+		for w := 0; w < threads; w++ {
+			go o.worker()
+		}
+	}
+	return o
+}
+
+func (o *objective) close() {
+	o.once.Do(func() {
+		if o.start != nil {
+			close(o.start)
+		}
+	})
+}
+
+func (o *objective) worker() {
+	for range o.start {
+		o.drain()
+		o.done <- struct{}{}
+	}
+}
+
+// drain evaluates chunks until none are left.
+func (o *objective) drain() {
+	for {
+		c := int(o.next.Add(1) - 1)
+		if c >= o.nchunks {
+			return
+		}
+		o.partLoss[c] = o.chunk(c, &o.params, o.wantGrad, &o.partGrad[c])
+	}
+}
+
+// eval returns the loss at natural parameters p and, when grad is not nil,
+// writes its gradient with respect to p's vector (brdf's order) into grad.
+// It allocates nothing.
+func (o *objective) eval(p *brdf.Params, grad []float64) float64 {
+	o.params = *p
+	o.wantGrad = grad != nil
+	o.next.Store(0)
+	o.passes++
+	if o.threads > 1 {
+		for w := 0; w < o.threads; w++ {
+			o.start <- struct{}{}
+		}
+		for w := 0; w < o.threads; w++ {
+			<-o.done
+		}
+	} else {
+		o.drain()
+	}
+	// Ordered reduction: chunk 0, 1, 2, ... whatever thread computed them.
+	loss := 0.0
+	for c := 0; c < o.nchunks; c++ {
+		loss += o.partLoss[c]
+	}
+	norm := 1 / float64(3*max(o.obs.Len(), 1))
+	if grad != nil {
+		for k := range grad[:o.np] {
+			s := 0.0
+			for c := 0; c < o.nchunks; c++ {
+				s += o.partGrad[c][k]
+			}
+			grad[k] = s * norm
+		}
+	}
+	return loss * norm
+}
+
+// chunk evaluates the unnormalised loss sum (and gradient sum) of one chunk.
+func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxParams]float64) float64 {
+	ob := o.obs
+	lo := c * chunkSize
+	hi := min(lo+chunkSize, ob.Len())
+	np := o.np
+	eps, delta := o.eps, o.delta
+	d2 := delta * delta
+	inv := 1 / delta
+	var gs [brdf.MaxParams]float64
+	var bg brdf.Grad
+	loss := 0.0
+	for i := lo; i < hi; i++ {
+		wo := brdf.Vec{X: float64(ob.WoX[i]), Y: float64(ob.WoY[i]), Z: float64(ob.WoZ[i])}
+		s, e := ob.lights(i)
+		var m [3]float64
+		var dm [3][brdf.MaxParams]float64
+		for l := s; l < e; l++ {
+			wi := brdf.Vec{X: float64(ob.WiX[l]), Y: float64(ob.WiY[l]), Z: float64(ob.WiZ[l])}
+			ir := [3]float64{float64(ob.ER[l]), float64(ob.EG[l]), float64(ob.EB[l])}
+			if wantGrad {
+				f := brdf.EvalGrad(p, wo, wi, &bg)
+				for ch := 0; ch < 3; ch++ {
+					m[ch] += f[ch] * ir[ch]
+					for k := 0; k < np; k++ {
+						dm[ch][k] += bg[ch][k] * ir[ch]
+					}
+				}
+			} else {
+				f := brdf.Eval(p, wo, wi)
+				for ch := 0; ch < 3; ch++ {
+					m[ch] += f[ch] * ir[ch]
+				}
+			}
+		}
+		for ch := 0; ch < 3; ch++ {
+			me := m[ch] + eps
+			r := math.Log(me) - float64(o.logO[ch][i])
+			q := r * inv
+			sq := math.Sqrt(1 + q*q)
+			loss += d2 * (sq - 1)
+			if wantGrad {
+				// d rho / d r = r / sqrt(1 + (r/delta)^2); d r / d m = 1/(m+eps).
+				w := r / (sq * me)
+				for k := 0; k < np; k++ {
+					gs[k] += w * dm[ch][k]
+				}
+			}
+		}
+	}
+	*g = gs
+	return loss
+}

@@ -1,0 +1,312 @@
+package fit
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/optimize"
+
+	"patina/brdf"
+)
+
+// Optimizer names a minimisation method of the fit.
+type Optimizer string
+
+const (
+	// LBFGS is gonum's limited-memory BFGS with a strong-Wolfe line search:
+	// on this smooth, low-dimensional problem it reaches the optimum in far
+	// fewer passes than Adam (see BenchmarkOptimizers), so it is the default.
+	LBFGS Optimizer = "lbfgs"
+	// Adam (Kingma and Ba, "Adam: a method for stochastic optimization",
+	// ICLR 2015) on the full batch, with its step halved on a plateau: the
+	// robust baseline, insensitive to scaling and to a rough start.
+	Adam Optimizer = "adam"
+)
+
+// ParseOptimizer checks an optimiser name ("" gives the default).
+func ParseOptimizer(s string) (Optimizer, error) {
+	switch Optimizer(s) {
+	case "":
+		return LBFGS, nil
+	case LBFGS, Adam:
+		return Optimizer(s), nil
+	}
+	return "", fmt.Errorf("fit: unknown optimizer %q (expected %q or %q)", s, LBFGS, Adam)
+}
+
+// bounds maps the unconstrained vector theta the optimisers work on to the
+// model's natural parameters p = lo + (hi - lo) * logistic(theta), so every
+// step lands inside the valid range (colours in [0,1], roughness in
+// [MinRoughness, 1]) and no optimiser needs constraints.
+type bounds struct {
+	n      int
+	lo, hi [brdf.MaxParams]float64
+}
+
+func newBounds(kind brdf.Kind, minRough float64) bounds {
+	b := bounds{n: kind.NumParams()}
+	for k := 0; k < b.n; k++ {
+		b.lo[k], b.hi[k] = 0, 1
+	}
+	b.lo[b.n-1] = minRough // roughness is last for every kind
+	return b
+}
+
+func logistic(t float64) float64 {
+	if t >= 0 {
+		return 1 / (1 + math.Exp(-t))
+	}
+	e := math.Exp(t)
+	return e / (1 + e)
+}
+
+// natural writes p(theta) into v.
+func (b *bounds) natural(theta, v []float64) {
+	for k := 0; k < b.n; k++ {
+		v[k] = b.lo[k] + (b.hi[k]-b.lo[k])*logistic(theta[k])
+	}
+}
+
+// theta writes theta(p) into t, clamping p just inside the open range.
+func (b *bounds) theta(v, t []float64) {
+	for k := 0; k < b.n; k++ {
+		u := (v[k] - b.lo[k]) / (b.hi[k] - b.lo[k])
+		u = math.Min(math.Max(u, 1e-6), 1-1e-6)
+		t[k] = math.Log(u / (1 - u))
+	}
+}
+
+// chain turns a gradient with respect to p into one with respect to theta.
+func (b *bounds) chain(theta, gp, gt []float64) {
+	for k := 0; k < b.n; k++ {
+		s := logistic(theta[k])
+		gt[k] = gp[k] * (b.hi[k] - b.lo[k]) * s * (1 - s)
+	}
+}
+
+// thetaProblem is the objective as a function of theta, caching the last
+// point so that a method asking for value and gradient at the same point
+// separately pays one pass.
+type thetaProblem struct {
+	obj    *objective
+	b      bounds
+	params brdf.Params
+	v, gp  [brdf.MaxParams]float64
+	lastX  [brdf.MaxParams]float64
+	lastF  float64
+	lastG  [brdf.MaxParams]float64
+	valid  bool
+	onPass func(theta []float64, loss float64) error
+	err    error
+}
+
+func (tp *thetaProblem) evalBoth(theta []float64) (float64, []float64) {
+	n := tp.b.n
+	if tp.valid && equal(theta, tp.lastX[:n]) {
+		return tp.lastF, tp.lastG[:n]
+	}
+	tp.b.natural(theta, tp.v[:n])
+	if err := tp.params.FromVector(tp.v[:n]); err != nil {
+		panic("fit: internal: " + err.Error()) // the vector length is the kind's own
+	}
+	f := tp.obj.eval(&tp.params, tp.gp[:n])
+	tp.b.chain(theta, tp.gp[:n], tp.lastG[:n])
+	copy(tp.lastX[:n], theta)
+	tp.lastF = f
+	tp.valid = true
+	if tp.onPass != nil && tp.err == nil {
+		tp.err = tp.onPass(theta, f)
+	}
+	return f, tp.lastG[:n]
+}
+
+func equal(a, b []float64) bool {
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}
+
+// stopRules says when an optimisation ends.
+type stopRules struct {
+	maxPasses int     // passes over the observations
+	relTol    float64 // relative loss decrease below which a pass does not count as progress
+	absTol    float64 // absolute loss decrease below which a pass does not count as progress
+	gradTol   float64 // infinity norm of the gradient in theta
+	patience  int     // passes without progress before stopping
+}
+
+// Stop reasons.
+const (
+	stopConverged = "loss converged"
+	stopGradient  = "gradient below tolerance"
+	stopPasses    = "pass limit reached"
+	stopStalled   = "no further progress"
+)
+
+var errPassLimit = errors.New("fit: pass limit")
+
+// minimize runs one optimiser from theta (updated in place to the best point
+// found) and returns the best loss, the stop reason and passes used.
+func minimize(ctx context.Context, method Optimizer, tp *thetaProblem, theta []float64, rules stopRules) (float64, string, int, error) {
+	start := tp.obj.passes
+	var loss float64
+	var reason string
+	var err error
+	switch method {
+	case Adam:
+		loss, reason, err = runAdam(ctx, tp, theta, rules)
+	default:
+		loss, reason, err = runLBFGS(ctx, tp, theta, rules)
+	}
+	return loss, reason, tp.obj.passes - start, err
+}
+
+func runAdam(ctx context.Context, tp *thetaProblem, theta []float64, rules stopRules) (float64, string, error) {
+	n := len(theta)
+	const beta1, beta2, epsA = 0.9, 0.999, 1e-12
+	lr := 0.1
+	var m, v, best [brdf.MaxParams]float64
+	bestF := math.Inf(1)
+	copy(best[:n], theta)
+	progressF := math.Inf(1) // loss at the last counted progress
+	sinceProgress, sinceBest := 0, 0
+	for pass := 1; ; pass++ {
+		if err := ctx.Err(); err != nil {
+			copy(theta, best[:n])
+			return bestF, "", err
+		}
+		f, g := tp.evalBoth(theta)
+		if tp.err != nil {
+			copy(theta, best[:n])
+			return bestF, "", tp.err
+		}
+		if f < bestF {
+			bestF = f
+			copy(best[:n], theta)
+			sinceBest = 0
+		} else {
+			sinceBest++
+		}
+		if progressF-f > rules.relTol*math.Abs(f)+rules.absTol {
+			progressF = f
+			sinceProgress = 0
+		} else {
+			sinceProgress++
+		}
+		gn := 0.0
+		for _, x := range g {
+			gn = math.Max(gn, math.Abs(x))
+		}
+		switch {
+		case gn < rules.gradTol:
+			copy(theta, best[:n])
+			return bestF, stopGradient, nil
+		case sinceProgress >= rules.patience:
+			copy(theta, best[:n])
+			return bestF, stopConverged, nil
+		case pass >= rules.maxPasses:
+			copy(theta, best[:n])
+			return bestF, stopPasses, nil
+		}
+		// A full-batch gradient is exact, so Adam's oscillation around the
+		// optimum is the step size's: halve it when the loss stops falling,
+		// restarting from the best point.
+		if sinceBest >= 3 {
+			lr *= 0.5
+			copy(theta, best[:n])
+			m, v = [brdf.MaxParams]float64{}, [brdf.MaxParams]float64{}
+			sinceBest = 0
+			if lr < 1e-7 {
+				return bestF, stopStalled, nil
+			}
+			continue
+		}
+		b1 := 1 - math.Pow(beta1, float64(pass))
+		b2 := 1 - math.Pow(beta2, float64(pass))
+		for k := 0; k < n; k++ {
+			m[k] = beta1*m[k] + (1-beta1)*g[k]
+			v[k] = beta2*v[k] + (1-beta2)*g[k]*g[k]
+			theta[k] -= lr * (m[k] / b1) / (math.Sqrt(v[k]/b2) + epsA)
+		}
+	}
+}
+
+// passRecorder stops gonum's minimiser on cancel or at the pass limit.
+type passRecorder struct {
+	ctx   context.Context
+	tp    *thetaProblem
+	limit int
+	start int
+}
+
+func (r *passRecorder) Init() error { return nil }
+func (r *passRecorder) Record(_ *optimize.Location, _ optimize.Operation, _ *optimize.Stats) error {
+	if err := r.ctx.Err(); err != nil {
+		return err
+	}
+	if r.tp.err != nil {
+		return r.tp.err
+	}
+	if r.tp.obj.passes-r.start >= r.limit {
+		return errPassLimit
+	}
+	return nil
+}
+
+func runLBFGS(ctx context.Context, tp *thetaProblem, theta []float64, rules stopRules) (float64, string, error) {
+	n := len(theta)
+	var best [brdf.MaxParams]float64
+	bestF := math.Inf(1)
+	copy(best[:n], theta)
+	keep := func(x []float64, f float64) {
+		if f < bestF {
+			bestF = f
+			copy(best[:n], x)
+		}
+	}
+	prob := optimize.Problem{
+		Func: func(x []float64) float64 {
+			f, _ := tp.evalBoth(x)
+			keep(x, f)
+			return f
+		},
+		Grad: func(grad, x []float64) {
+			f, g := tp.evalBoth(x)
+			keep(x, f)
+			copy(grad, g)
+		},
+	}
+	settings := &optimize.Settings{
+		GradientThreshold: rules.gradTol,
+		Converger: &optimize.FunctionConverge{
+			Relative: rules.relTol, Absolute: rules.absTol, Iterations: rules.patience,
+		},
+		Recorder: &passRecorder{ctx: ctx, tp: tp, limit: rules.maxPasses, start: tp.obj.passes},
+	}
+	res, err := optimize.Minimize(prob, theta, settings, &optimize.LBFGS{GradStopThreshold: math.NaN()})
+	copy(theta, best[:n])
+	switch {
+	case errors.Is(err, errPassLimit):
+		return bestF, stopPasses, nil
+	case ctx.Err() != nil:
+		return bestF, "", ctx.Err()
+	case tp.err != nil:
+		return bestF, "", tp.err
+	case err != nil && res == nil:
+		return bestF, "", fmt.Errorf("fit: L-BFGS: %w", err)
+	}
+	switch res.Status {
+	case optimize.GradientThreshold:
+		return bestF, stopGradient, nil
+	case optimize.FunctionConvergence:
+		return bestF, stopConverged, nil
+	}
+	// A line search that cannot improve further (as happens at an optimum
+	// reached to machine precision) ends here.
+	return bestF, stopStalled, nil
+}

@@ -1,0 +1,393 @@
+package fit
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/mat"
+
+	"patina/brdf"
+)
+
+// SegmentFit is the outcome of fitting one segment.
+type SegmentFit struct {
+	Name string
+	Kind brdf.Kind
+	// Params are the fitted parameters.
+	Params brdf.Params
+	// Sigma holds one standard deviation of each parameter in its natural
+	// units, laid out like Params (a dielectric's single F0 sigma is in all
+	// three Specular channels; a metal's Diffuse is zero). +Inf marks a
+	// parameter the observations do not determine at all.
+	Sigma brdf.Params
+	// Covariance is the full covariance of the parameter vector (brdf's
+	// Vector order), row-major, NumParams x NumParams.
+	Covariance []float64
+	// Observations is the number of observations fitted; NearSpecular how
+	// many of them have a half vector within Options.NearSpecularDegrees of
+	// the normal for at least one light.
+	Observations int
+	NearSpecular int
+	// RMSE is the root mean square of the log-radiance residual over all
+	// observations and channels at the optimum (about the relative error:
+	// 0.05 means the model is off by about 5% on a typical pixel).
+	RMSE float64
+	// Loss is the robust loss at the optimum.
+	Loss float64
+	// Passes over the observations, all roughness starts included.
+	Passes int
+	// Stop says why the optimiser stopped.
+	Stop string
+	// StartRoughness is the roughness start that led to the optimum.
+	StartRoughness float64
+	// Fitted is false when there were too few observations to fit at all.
+	Fitted bool
+	// Warnings are plain-language diagnostics with advice.
+	Warnings []string
+}
+
+// FitSegment fits one segment's observations with a model kind. It is the
+// core of Run, usable on observations from any source.
+func FitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, opts Options) (*SegmentFit, error) {
+	opts = opts.withDefaults()
+	eps := opts.NoiseFloor
+	if eps <= 0 {
+		eps = 1e-4
+	}
+	return fitSegment(ctx, obs, kind, "", 0, 1, eps, "", opts)
+}
+
+// genericAdvice is said when nothing is known about the segment's geometry.
+const genericAdvice = "add photos in which a light sits near the mirror direction of a camera about this segment's surface, so its highlights are seen"
+
+func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name string, index, count int, eps float64, advice string, opts Options) (*SegmentFit, error) {
+	np := kind.NumParams()
+	res := &SegmentFit{Name: name, Kind: kind, Observations: obs.Len()}
+	res.Params.Kind, res.Sigma.Kind = kind, kind
+	if advice == "" {
+		advice = genericAdvice
+	}
+	cosNear := opts.nearSpecularCos()
+	for i := 0; i < obs.Len(); i++ {
+		if obs.halfCos(i) >= cosNear {
+			res.NearSpecular++
+		}
+	}
+	if obs.Len() < 4*np {
+		res.Warnings = append(res.Warnings, fmt.Sprintf(
+			"only %d observations for %d parameters: not fitted; photograph this segment from more cameras or under more lights, and check its mask and that its segment label matches the mesh", obs.Len(), np))
+		return res, nil
+	}
+
+	obj := newObjective(obs, kind, eps, opts.Delta, opts.Threads)
+	defer obj.close()
+	tp := &thetaProblem{obj: obj, b: newBounds(kind, opts.MinRoughness)}
+	tp.params.Kind = kind
+	if opts.Progress != nil {
+		tp.onPass = func(theta []float64, loss float64) error {
+			var v [brdf.MaxParams]float64
+			tp.b.natural(theta, v[:np])
+			pr := Progress{Stage: StageFit, Segment: index, Segments: count, SegmentName: name,
+				Pass: obj.passes, Loss: loss}
+			pr.Params.Kind = kind
+			_ = pr.Params.FromVector(v[:np])
+			opts.Progress(pr)
+			return nil
+		}
+	}
+	rules := stopRules{maxPasses: opts.StartPasses, relTol: opts.RelTol, absTol: opts.AbsTol,
+		gradTol: opts.GradTol, patience: opts.Patience}
+
+	starts := initialGuesses(obs, kind, opts)
+	var bestTheta [brdf.MaxParams]float64
+	bestLoss := math.Inf(1)
+	for _, st := range starts {
+		var v, theta [brdf.MaxParams]float64
+		st.Vector(v[:0])
+		tp.b.theta(v[:np], theta[:np])
+		loss, _, _, err := minimize(ctx, opts.Optimizer, tp, theta[:np], rules)
+		if err != nil {
+			return nil, err
+		}
+		if loss < bestLoss {
+			bestLoss = loss
+			bestTheta = theta
+			res.StartRoughness = st.Roughness
+		}
+	}
+	rules.maxPasses = max(opts.MaxPasses-obj.passes, 1)
+	loss, reason, _, err := minimize(ctx, opts.Optimizer, tp, bestTheta[:np], rules)
+	if err != nil {
+		return nil, err
+	}
+	res.Loss, res.Stop, res.Passes = loss, reason, obj.passes
+	var v [brdf.MaxParams]float64
+	tp.b.natural(bestTheta[:np], v[:np])
+	if err := res.Params.FromVector(v[:np]); err != nil {
+		return nil, err
+	}
+	res.Fitted = true
+	res.uncertainty(obs, eps, opts.Delta)
+	res.warn(opts, advice)
+	return res, nil
+}
+
+// initialGuesses returns one starting point per roughness start. Diffuse
+// colour comes from linear least squares on the observations far from the
+// specular configuration, where the model is nearly Lambertian:
+// o_c = d_c/pi * sum_l E_lc. The specular colour for each start then comes
+// from linear least squares on all observations, because with Schlick's
+// approximation the model is affine in F0 at fixed roughness and diffuse:
+// m = A F0 + B, with B = model(F0 = 0) and A = model(F0 = 1) - B.
+func initialGuesses(obs *Observations, kind brdf.Kind, opts Options) []brdf.Params {
+	n := obs.Len()
+	hasDiffuse := kind != brdf.Metal
+	var diffuse brdf.RGB
+	if hasDiffuse {
+		cos := make([]float64, n)
+		for i := range cos {
+			cos[i] = obs.halfCos(i)
+		}
+		sorted := append([]float64(nil), cos...)
+		sort.Float64s(sorted)
+		// Far from specular: half vector more than 20 degrees from the
+		// normal, or the half of the observations farthest from it.
+		limit := math.Max(math.Cos(20*math.Pi/180), sorted[n/2])
+		var num, den [3]float64
+		for i := 0; i < n; i++ {
+			if cos[i] > limit {
+				continue
+			}
+			o := [3]float64{float64(obs.R[i]), float64(obs.G[i]), float64(obs.B[i])}
+			s, e := obs.lights(i)
+			var a [3]float64
+			for l := s; l < e; l++ {
+				a[0] += float64(obs.ER[l]) / math.Pi
+				a[1] += float64(obs.EG[l]) / math.Pi
+				a[2] += float64(obs.EB[l]) / math.Pi
+			}
+			for c := 0; c < 3; c++ {
+				num[c] += o[c] * a[c]
+				den[c] += a[c] * a[c]
+			}
+		}
+		for c := 0; c < 3; c++ {
+			d := 0.5
+			if den[c] > 0 {
+				d = num[c] / den[c] / 0.96 // (1 - F) with F near 0.04 away from the highlight
+			}
+			diffuse[c] = clamp(d, 0.005, 0.98)
+		}
+	}
+	var out []brdf.Params
+	for _, r0 := range opts.RoughnessStarts {
+		r0 = clamp(r0, opts.MinRoughness, 1)
+		p0 := brdf.Params{Kind: kind, Diffuse: diffuse, Roughness: r0}
+		p1 := p0
+		p1.Specular = brdf.RGB{1, 1, 1}
+		var num, den [3]float64
+		for i := 0; i < n; i++ {
+			wo := brdf.Vec{X: float64(obs.WoX[i]), Y: float64(obs.WoY[i]), Z: float64(obs.WoZ[i])}
+			s, e := obs.lights(i)
+			var a, b [3]float64
+			for l := s; l < e; l++ {
+				wi := brdf.Vec{X: float64(obs.WiX[l]), Y: float64(obs.WiY[l]), Z: float64(obs.WiZ[l])}
+				ir := [3]float64{float64(obs.ER[l]), float64(obs.EG[l]), float64(obs.EB[l])}
+				f0 := brdf.Eval(&p0, wo, wi)
+				f1 := brdf.Eval(&p1, wo, wi)
+				for c := 0; c < 3; c++ {
+					b[c] += f0[c] * ir[c]
+					a[c] += (f1[c] - f0[c]) * ir[c]
+				}
+			}
+			o := [3]float64{float64(obs.R[i]), float64(obs.G[i]), float64(obs.B[i])}
+			for c := 0; c < 3; c++ {
+				num[c] += a[c] * (o[c] - b[c])
+				den[c] += a[c] * a[c]
+			}
+		}
+		p := p0
+		switch kind {
+		case brdf.Dielectric:
+			f := 0.04
+			if d := den[0] + den[1] + den[2]; d > 0 {
+				f = (num[0] + num[1] + num[2]) / d
+			}
+			f = clamp(f, 0.01, 0.5)
+			p.Specular = brdf.RGB{f, f, f}
+		default:
+			for c := 0; c < 3; c++ {
+				f := 0.04
+				if den[c] > 0 {
+					f = num[c] / den[c]
+				}
+				p.Specular[c] = clamp(f, 0.01, 0.98)
+			}
+		}
+		out = append(out, p)
+	}
+	return out
+}
+
+func clamp(x, lo, hi float64) float64 {
+	if math.IsNaN(x) {
+		return lo
+	}
+	return math.Min(math.Max(x, lo), hi)
+}
+
+// uncertainty fills Sigma, Covariance and RMSE: the Gauss-Newton
+// approximation of the covariance at the optimum. With residuals r_j, their
+// Jacobian J with respect to the natural parameters and the robust loss's
+// iteratively-reweighted-least-squares weights w_j = psi(r_j)/r_j
+// (= 1/sqrt(1 + (r/delta)^2) for Charbonnier),
+//
+//	Cov = s^2 (J^T W J)^-1,   s^2 = sum w_j r_j^2 / (n - p),
+//
+// the classical nonlinear least-squares estimate (e.g. Seber and Wild,
+// "Nonlinear Regression", 1989, section 2.1), scaled by the residual
+// variance so that it describes the noise actually seen.
+func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
+	np := res.Kind.NumParams()
+	h := make([]float64, np*np)
+	var bg brdf.Grad
+	p := &res.Params
+	sumW2, sumR2 := 0.0, 0.0
+	nres := 0
+	for i := 0; i < obs.Len(); i++ {
+		wo := brdf.Vec{X: float64(obs.WoX[i]), Y: float64(obs.WoY[i]), Z: float64(obs.WoZ[i])}
+		s, e := obs.lights(i)
+		var m [3]float64
+		var dm [3][brdf.MaxParams]float64
+		for l := s; l < e; l++ {
+			wi := brdf.Vec{X: float64(obs.WiX[l]), Y: float64(obs.WiY[l]), Z: float64(obs.WiZ[l])}
+			ir := [3]float64{float64(obs.ER[l]), float64(obs.EG[l]), float64(obs.EB[l])}
+			f := brdf.EvalGrad(p, wo, wi, &bg)
+			for c := 0; c < 3; c++ {
+				m[c] += f[c] * ir[c]
+				for k := 0; k < np; k++ {
+					dm[c][k] += bg[c][k] * ir[c]
+				}
+			}
+		}
+		o := [3]float64{float64(obs.R[i]), float64(obs.G[i]), float64(obs.B[i])}
+		for c := 0; c < 3; c++ {
+			me := m[c] + eps
+			r := math.Log(me) - math.Log(math.Max(o[c], 0)+eps)
+			q := r / delta
+			w := 1 / math.Sqrt(1+q*q)
+			sumW2 += w * r * r
+			sumR2 += r * r
+			nres++
+			for a := 0; a < np; a++ {
+				ja := dm[c][a] / me
+				for b := 0; b <= a; b++ {
+					h[a*np+b] += w * ja * dm[c][b] / me
+				}
+			}
+		}
+	}
+	for a := 0; a < np; a++ {
+		for b := 0; b < a; b++ {
+			h[b*np+a] = h[a*np+b]
+		}
+	}
+	res.RMSE = math.Sqrt(sumR2 / float64(max(nres, 1)))
+	s2 := sumW2 / float64(max(nres-np, 1))
+	sigma := make([]float64, np)
+	res.Covariance = make([]float64, np*np)
+	var chol mat.Cholesky
+	if ok := chol.Factorize(mat.NewSymDense(np, h)); ok {
+		var inv mat.SymDense
+		if err := chol.InverseTo(&inv); err == nil {
+			for a := 0; a < np; a++ {
+				for b := 0; b < np; b++ {
+					res.Covariance[a*np+b] = s2 * inv.At(a, b)
+				}
+				sigma[a] = math.Sqrt(math.Max(res.Covariance[a*np+a], 0))
+			}
+		} else {
+			ok = false
+		}
+		if !ok {
+			for a := range sigma {
+				sigma[a] = math.Inf(1)
+			}
+		}
+	} else {
+		for a := range sigma {
+			sigma[a] = math.Inf(1)
+		}
+		for a := range res.Covariance {
+			res.Covariance[a] = math.Inf(1)
+		}
+	}
+	_ = res.Sigma.FromVector(sigma)
+}
+
+// paramNames names the entries of a kind's vector for messages.
+func paramNames(kind brdf.Kind) []string {
+	switch kind {
+	case brdf.Dielectric:
+		return []string{"diffuse red", "diffuse green", "diffuse blue", "specular F0", "roughness"}
+	case brdf.Metal:
+		return []string{"specular red", "specular green", "specular blue", "roughness"}
+	}
+	return []string{"diffuse red", "diffuse green", "diffuse blue", "specular red", "specular green", "specular blue", "roughness"}
+}
+
+// warn adds the identifiability warnings.
+func (res *SegmentFit) warn(opts Options, advice string) {
+	np := res.Kind.NumParams()
+	var v, s [brdf.MaxParams]float64
+	res.Params.Vector(v[:0])
+	res.Sigma.Vector(s[:0])
+	names := paramNames(res.Kind)
+	if res.NearSpecular < opts.MinNearSpecular {
+		res.Warnings = append(res.Warnings, fmt.Sprintf(
+			"specular colour and roughness are not identifiable: only %d near-specular observations (need %d); %s",
+			res.NearSpecular, opts.MinNearSpecular, advice))
+	}
+	var loose []string
+	for k := 0; k < np; k++ {
+		ref := math.Max(math.Abs(v[k]), 0.05)
+		if !(s[k] <= opts.MaxRelativeSigma*ref) {
+			loose = append(loose, fmt.Sprintf("%s %.3g ± %.2g", names[k], v[k], s[k]))
+		}
+	}
+	if len(loose) > 0 {
+		what := advice
+		if res.Kind != brdf.Metal && allDiffuse(loose) {
+			what = "add photos under lights from more directions, away from the highlights"
+		}
+		res.Warnings = append(res.Warnings, fmt.Sprintf(
+			"poorly constrained (one sigma above %.0f%% of the value): %s; %s",
+			100*opts.MaxRelativeSigma, joinList(loose), what))
+	}
+	if res.Stop == stopPasses {
+		res.Warnings = append(res.Warnings, fmt.Sprintf(
+			"the optimiser stopped at the pass limit (%d) before converging; raise the limit or check the observations", opts.MaxPasses))
+	}
+}
+
+func allDiffuse(items []string) bool {
+	for _, s := range items {
+		if len(s) < 7 || s[:7] != "diffuse" {
+			return false
+		}
+	}
+	return true
+}
+
+func joinList(items []string) string {
+	out := ""
+	for i, s := range items {
+		if i > 0 {
+			out += ", "
+		}
+		out += s
+	}
+	return out
+}
