@@ -53,7 +53,8 @@ func rgbeErr(line int, off int64, format string, args ...any) *FormatError {
 
 // readHeaderLine returns the next line without its newline (and without a
 // trailing carriage return).
-func readHeaderLine(b *byteReader, line int, total *int) (string, error) {
+// expect says what was expected there, for the error at the end of input.
+func readHeaderLine(b *byteReader, line int, total *int, expect string) (string, error) {
 	start := b.offset()
 	var sb []byte
 	for {
@@ -62,7 +63,7 @@ func readHeaderLine(b *byteReader, line int, total *int) (string, error) {
 			if err := b.ioErr(); err != nil {
 				return "", err
 			}
-			return "", rgbeErr(line, b.offset(), "header ends without a blank line and a resolution line (expected e.g. \"-Y 512 +X 1024\")")
+			return "", rgbeErr(line, b.offset(), "input ends in the header, expected %s", expect)
 		}
 		*total++
 		if c == '\n' {
@@ -81,12 +82,8 @@ func readHeaderLine(b *byteReader, line int, total *int) (string, error) {
 func readRGBEHeader(b *byteReader, limit int) (*RGBEInfo, error) {
 	info := &RGBEInfo{Exposure: 1, ColorCorr: [3]float64{1, 1, 1}}
 	total := 0
-	first, err := readHeaderLine(b, 1, &total)
+	first, err := readHeaderLine(b, 1, &total, "a first line #?RADIANCE or #?RGBE")
 	if err != nil {
-		if fe, ok := err.(*FormatError); ok {
-			fe.Msg = "expected a first line #?RADIANCE or #?RGBE"
-			fe.Offset = 0
-		}
 		return nil, err
 	}
 	switch {
@@ -101,7 +98,7 @@ func readRGBEHeader(b *byteReader, limit int) (*RGBEInfo, error) {
 	for {
 		line++
 		off := b.offset()
-		s, err := readHeaderLine(b, line, &total)
+		s, err := readHeaderLine(b, line, &total, "header lines ending with a blank line, then the resolution line")
 		if err != nil {
 			return nil, err
 		}
@@ -165,7 +162,7 @@ func readRGBEHeader(b *byteReader, limit int) (*RGBEInfo, error) {
 	}
 	line++
 	off := b.offset()
-	res, err := readHeaderLine(b, line, &total)
+	res, err := readHeaderLine(b, line, &total, "the resolution line \"-Y height +X width\"")
 	if err != nil {
 		return nil, err
 	}
