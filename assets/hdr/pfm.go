@@ -244,7 +244,8 @@ func EncodePFMWith(w io.Writer, m *Image, opt PFMOptions) error {
 			for x := 0; x < m.Width; x++ {
 				r, g, b := src[3*x], src[3*x+1], src[3*x+2]
 				v := r
-				if r != g || g != b {
+				// Compare bits, so NaN payloads and -0 survive a grey round trip.
+				if math.Float32bits(r) != math.Float32bits(g) || math.Float32bits(g) != math.Float32bits(b) {
 					v = float32(colour.Luminance(float64(r), float64(g), float64(b)))
 				}
 				order.PutUint32(row[4*x:], math.Float32bits(v))
