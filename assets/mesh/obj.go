@@ -281,7 +281,7 @@ func (o *objReader) vertex(t *tokens) error {
 
 // ref resolves one OBJ index (1-based, or negative counting back from the
 // latest element) against count elements.
-func (o *objReader) ref(b []byte, count int, what string) (int32, error) {
+func (o *objReader) ref(b []byte, count int, what, plural string) (int32, error) {
 	i, ok := parseInt(b)
 	if !ok {
 		return 0, o.errf("f", "%s index %s is not an integer", what, quote(b))
@@ -294,7 +294,7 @@ func (o *objReader) ref(b []byte, count int, what string) (int32, error) {
 	case i < 0 && -i <= int64(count):
 		return int32(int64(count) + i), nil
 	}
-	return 0, o.errf("f", "%s index %d out of range (%d %s defined so far)", what, i, count, what)
+	return 0, o.errf("f", "%s index %d out of range (%d %s defined so far)", what, i, count, plural)
 }
 
 func (o *objReader) face(t *tokens) error {
@@ -325,19 +325,19 @@ func (o *objReader) face(t *tokens) error {
 		if c != nil {
 			return o.errf("f", "corner %d: more than three parts (want v, v/vt, v//vn or v/vt/vn)", len(o.idx)+1)
 		}
-		vi, err := o.ref(parts[0], nv, "vertex")
+		vi, err := o.ref(parts[0], nv, "vertex", "vertices")
 		if err != nil {
 			return err
 		}
 		ti, ni := int32(-1), int32(-1)
 		if np > 1 && len(parts[1]) > 0 {
-			if ti, err = o.ref(parts[1], nt, "texture coordinate"); err != nil {
+			if ti, err = o.ref(parts[1], nt, "texture coordinate", "texture coordinates"); err != nil {
 				return err
 			}
 			o.anyVT = true
 		}
 		if np > 2 && len(parts[2]) > 0 {
-			if ni, err = o.ref(parts[2], nn, "normal"); err != nil {
+			if ni, err = o.ref(parts[2], nn, "normal", "normals"); err != nil {
 				return err
 			}
 			o.anyVN = true

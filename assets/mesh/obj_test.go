@@ -195,3 +195,26 @@ func TestEarClippingNonConvex(t *testing.T) {
 		}
 	}
 }
+
+// testdata/mesh/plaque.obj: an L-shaped hexagon (area 3*1 + 1*2 = 5 by the
+// shoelace formula) in front of a 3 x 3 square written with negative
+// indices across a continuation line.
+func TestPlaqueFixture(t *testing.T) {
+	m, rep := load(t, "plaque.obj")
+	if m.NumTriangles() != 6 || m.NumVertices() != 10 || rep.ComputedNormals || rep.Degenerate != 0 {
+		t.Fatalf("%d triangles %d vertices, report %+v", m.NumTriangles(), m.NumVertices(), rep)
+	}
+	if a := SurfaceArea(m); !near(a, 14, 1e-12) {
+		t.Errorf("area %v, want 5 + 9", a)
+	}
+	if l := m.SegmentLabels; len(l) != 2 || l[0].Name != "glaze" || l[1].Name != "gilding" {
+		t.Errorf("segments %v", l)
+	}
+	if n := m.Normals[3*8 : 3*8+3]; n[2] != -1 {
+		t.Errorf("back normal %v", n)
+	}
+	lo, hi := Bounds(m)
+	if lo != [3]float64{0, 0, -0.5} || hi != [3]float64{3, 3, 0} {
+		t.Errorf("bounds %v %v", lo, hi)
+	}
+}

@@ -537,7 +537,7 @@ func (p *plyReader) asciiElem(e *plyElem) error {
 			}
 		}
 		if t.next() != nil {
-			return p.asciiErr(e, r, "more values than the %d properties of element %s", len(e.props), e.name)
+			return p.asciiErr(e, r, "more values than the %d properties of element %s (does the header give the right %s count?)", len(e.props), e.name, e.name)
 		}
 		if err := p.store(e, &rc, func(f string, a ...any) error { return p.asciiErr(e, r, f, a...) }); err != nil {
 			return err
