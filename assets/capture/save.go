@@ -73,6 +73,9 @@ type wirePhoto struct {
 type num float64
 
 func (n num) MarshalJSON() ([]byte, error) {
+	if n == 0 {
+		return []byte("0"), nil // also for -0
+	}
 	return strconv.AppendFloat(nil, float64(n), 'g', -1, 64), nil
 }
 
@@ -145,72 +148,79 @@ func (c *Capture) Marshal() ([]byte, error) {
 	return compactArrays(buf.Bytes()), nil
 }
 
-// compactArrays puts arrays that hold only numbers on one line, so a
-// rotation reads as three rows and a position as one line.
+// compactArrays puts every array that holds only numbers and strings on
+// one line, so a rotation reads as three rows, a position as one line and a
+// photo's light list as one line.
 func compactArrays(in []byte) []byte {
 	var out bytes.Buffer
 	for i := 0; i < len(in); {
-		if in[i] == '[' {
-			if j, ok := numberArray(in, i); ok {
+		switch in[i] {
+		case '"':
+			j := stringEnd(in, i)
+			out.Write(in[i:j])
+			i = j
+		case '[':
+			if elems, j, ok := flatArray(in, i); ok {
 				out.WriteByte('[')
-				first := true
-				for k := i + 1; k < j; {
-					for k < j && (in[k] == ' ' || in[k] == '\n' || in[k] == ',') {
-						k++
+				for k, e := range elems {
+					if k > 0 {
+						out.WriteString(", ")
 					}
-					s := k
-					for k < j && in[k] != ',' && in[k] != '\n' && in[k] != ' ' {
-						k++
-					}
-					if s < k {
-						if !first {
-							out.WriteString(", ")
-						}
-						out.Write(in[s:k])
-						first = false
-					}
+					out.Write(e)
 				}
 				out.WriteByte(']')
-				i = j + 1
+				i = j
 				continue
 			}
+			out.WriteByte('[')
+			i++
+		default:
+			out.WriteByte(in[i])
+			i++
 		}
-		if in[i] == '"' { // copy strings verbatim
-			j := i + 1
-			for j < len(in) && in[j] != '"' {
-				if in[j] == '\\' {
-					j++
-				}
-				j++
-			}
-			if j >= len(in) {
-				j = len(in) - 1
-			}
-			out.Write(in[i : j+1])
-			i = j + 1
-			continue
-		}
-		out.WriteByte(in[i])
-		i++
 	}
-	// Rotation rows: an array of compact number arrays gets one row a line
-	// already from the encoder's indentation.
 	return out.Bytes()
 }
 
-// numberArray reports whether the array opening at in[i] holds only
-// numbers, and where it closes.
-func numberArray(in []byte, i int) (int, bool) {
-	for j := i + 1; j < len(in); j++ {
-		switch c := in[j]; {
-		case c == ']':
-			return j, true
-		case c == ' ' || c == '\n' || c == ',' || c == '-' || c == '+' || c == '.' || c == 'e' || c == 'E' || (c >= '0' && c <= '9'):
+// stringEnd returns the offset just past the JSON string starting at in[i].
+func stringEnd(in []byte, i int) int {
+	j := i + 1
+	for j < len(in) && in[j] != '"' {
+		if in[j] == '\\' {
+			j++
+		}
+		j++
+	}
+	return min(j+1, len(in))
+}
+
+// flatArray returns the elements of the array opening at in[i] when they
+// are all scalars, and the offset just past its closing bracket.
+func flatArray(in []byte, i int) ([][]byte, int, bool) {
+	var elems [][]byte
+	j := i + 1
+	for j < len(in) {
+		switch c := in[j]; c {
+		case ' ', '\n', '\t', '\r', ',':
+			j++
+		case ']':
+			return elems, j + 1, true
+		case '[', '{':
+			return nil, 0, false
+		case '"':
+			k := stringEnd(in, j)
+			elems = append(elems, in[j:k])
+			j = k
 		default:
-			return 0, false
+			k := j
+			for k < len(in) && !bytes.ContainsRune([]byte(" \n\t\r,]"), rune(in[k])) {
+				k++
+			}
+			elems = append(elems, in[j:k])
+			j = k
 		}
 	}
-	return 0, false
+	return nil, 0, false
 }
 
 // Save writes the capture to path atomically (through assets/atomicfile).
@@ -223,15 +233,22 @@ func (c *Capture) Save(path string) error {
 		return err
 	}
 	newDir := filepath.Dir(abs)
+	oldDir := c.Dir
+	if oldDir != "" {
+		if oldDir, err = filepath.Abs(oldDir); err != nil {
+			return err
+		}
+	}
 	out := *c
-	if c.Dir != "" && c.Dir != newDir {
+	if oldDir != "" && oldDir != newDir {
 		rebase := func(p string) string {
 			if p == "" || filepath.IsAbs(filepath.FromSlash(p)) {
 				return p
 			}
-			r, err := filepath.Rel(newDir, c.Resolve(p))
+			old := filepath.Join(oldDir, filepath.FromSlash(p))
+			r, err := filepath.Rel(newDir, old)
 			if err != nil {
-				return filepath.ToSlash(c.Resolve(p))
+				return filepath.ToSlash(old)
 			}
 			return filepath.ToSlash(r)
 		}

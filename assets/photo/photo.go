@@ -162,11 +162,12 @@ func (e *LimitError) Error() string {
 
 // Info is what a photo's header says.
 type Info struct {
-	Width, Height int
-	Format        string // "png", "jpeg" or "tiff"
-	BitDepth      int    // 8 or 16 bits per channel
-	Channels      int    // 1 (grey) or 3 (colour), not counting alpha
-	Alpha         bool   // the file has an alpha channel (ignored by Load)
+	Width    int    `json:"width"`
+	Height   int    `json:"height"`
+	Format   string `json:"format"`    // "png", "jpeg" or "tiff"
+	BitDepth int    `json:"bit_depth"` // 8 or 16 bits per channel
+	Channels int    `json:"channels"`  // 1 (grey) or 3 (colour), not counting alpha
+	Alpha    bool   `json:"alpha"`     // the file has an alpha channel (ignored by Load)
 }
 
 // sniff names the format from the first bytes.
