@@ -115,7 +115,7 @@ func TestRecoveryNoise(t *testing.T) {
 				}
 				line += fmt.Sprintf(" %.4f±%.4f(%+.1fσ)", got[k], sig[k], z)
 			}
-			t.Logf("%s/%v:%s rmse %.4f", geom.name, c, line, res.RMSE)
+			t.Logf("%s/%v:%s rms log residual %.4f", geom.name, c, line, res.RMSLog)
 		}
 	}
 	frac := float64(within2) / float64(total)

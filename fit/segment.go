@@ -30,10 +30,14 @@ type SegmentFit struct {
 	// the normal for at least one light.
 	Observations int
 	NearSpecular int
-	// RMSE is the root mean square of the log-radiance residual over all
-	// observations and channels at the optimum (about the relative error:
-	// 0.05 means the model is off by about 5% on a typical pixel).
+	// RMSE is the root mean square of the radiance residual (photo minus
+	// model, linear, capture radiance units) over all observations and
+	// channels at the optimum.
 	RMSE float64
+	// RMSLog is the root mean square of the log-radiance residual, about
+	// the relative error: 0.05 means the model is off by about 5% on a
+	// typical pixel.
+	RMSLog float64
 	// Loss is the robust loss at the optimum.
 	Loss float64
 	// Passes over the observations, all roughness starts included.
@@ -254,7 +258,7 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 	h := make([]float64, np*np)
 	var bg brdf.Grad
 	p := &res.Params
-	sumW2, sumR2 := 0.0, 0.0
+	sumW2, sumR2, sumLin2 := 0.0, 0.0, 0.0
 	nres := 0
 	for i := 0; i < obs.Len(); i++ {
 		wo := brdf.Vec{X: float64(obs.WoX[i]), Y: float64(obs.WoY[i]), Z: float64(obs.WoZ[i])}
@@ -280,6 +284,7 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 			w := 1 / math.Sqrt(1+q*q)
 			sumW2 += w * r * r
 			sumR2 += r * r
+			sumLin2 += (o[c] - m[c]) * (o[c] - m[c])
 			nres++
 			for a := 0; a < np; a++ {
 				ja := dm[c][a] / me
@@ -294,7 +299,8 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 			h[b*np+a] = h[a*np+b]
 		}
 	}
-	res.RMSE = math.Sqrt(sumR2 / float64(max(nres, 1)))
+	res.RMSLog = math.Sqrt(sumR2 / float64(max(nres, 1)))
+	res.RMSE = math.Sqrt(sumLin2 / float64(max(nres, 1)))
 	s2 := sumW2 / float64(max(nres-np, 1))
 	sigma := make([]float64, np)
 	res.Covariance = make([]float64, np*np)

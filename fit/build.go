@@ -1,0 +1,575 @@
+package fit
+
+import (
+	"context"
+	"fmt"
+	"image"
+	"math"
+	"math/rand/v2"
+	"sort"
+	"sync"
+
+	"patina/assets/capture"
+	"patina/assets/mesh"
+	"patina/brdf"
+	"patina/render"
+)
+
+// Rejections counts the pixels left out of the fit, by reason. A pixel of a
+// photo counts once, under the first reason that applies, in this order.
+// Shadow is counted among the pixels drawn by the sampler only (casting a
+// shadow ray for every pixel of every photo would cost more than the fit).
+type Rejections struct {
+	// Border: within Options.BorderPixels of a silhouette or of another
+	// segment, where a small registration error mixes surfaces.
+	Border int
+	// Unassigned: the triangle belongs to no segment of the capture.
+	Unassigned int
+	// Grazing: back-facing, or the view or a light direction within
+	// acos(Options.MinCosine) of the tangent plane.
+	Grazing int
+	// Masked: outside the photo's mask.
+	Masked int
+	// Saturated: some channel at or above the decoder's saturation level.
+	Saturated int
+	// UnderExposed: mean radiance below the noise floor.
+	UnderExposed int
+	// Shadow: in the cast shadow of the photo's only light (or of all its
+	// lights).
+	Shadow int
+}
+
+// Map returns the counts under the materials file's keys.
+func (r Rejections) Map() map[string]int {
+	m := map[string]int{}
+	add := func(k string, v int) {
+		if v > 0 {
+			m[k] = v
+		}
+	}
+	add("border", r.Border)
+	add("unassigned", r.Unassigned)
+	add("grazing", r.Grazing)
+	add("masked", r.Masked)
+	add("saturated", r.Saturated)
+	add("under_exposed", r.UnderExposed)
+	add("shadow", r.Shadow)
+	return m
+}
+
+// Total is the number of rejected pixels.
+func (r Rejections) Total() int {
+	return r.Border + r.Unassigned + r.Grazing + r.Masked + r.Saturated + r.UnderExposed + r.Shadow
+}
+
+func (r *Rejections) add(o Rejections) {
+	r.Border += o.Border
+	r.Unassigned += o.Unassigned
+	r.Grazing += o.Grazing
+	r.Masked += o.Masked
+	r.Saturated += o.Saturated
+	r.UnderExposed += o.UnderExposed
+	r.Shadow += o.Shadow
+}
+
+// SegmentObservations are one capture segment's observations with what the
+// diagnostics need to give advice.
+type SegmentObservations struct {
+	Name            string
+	Kind            brdf.Kind
+	ReferenceAlbedo *[3]float64
+	Obs             Observations
+	// Floor is the noise floor (capture radiance) of the segment's
+	// observations: the median over its photos.
+	Floor float64
+
+	floors    []float64
+	sumNormal render.Vec3 // sum of world shading normals
+	sumPos    render.Vec3 // sum of world positions
+	perCamera []int       // observations per camera (capture camera index)
+}
+
+// ObservationSet is everything BuildObservations extracts from a capture.
+type ObservationSet struct {
+	Segments   []*SegmentObservations
+	Rejections Rejections
+	// PhotosUsed are the indices of the fitting photos that gave at least
+	// one observation; PhotoRejections the counts per photo (by index).
+	PhotosUsed      []int
+	PhotoRejections map[int]Rejections
+	// Cameras and Lights are the capture's, for advice.
+	cameras []capture.Camera
+	lights  []capture.Light
+}
+
+// pinhole converts a capture camera to the renderer's.
+func pinhole(c *capture.Camera) render.Pinhole {
+	return render.Pinhole{
+		Width: c.Width, Height: c.Height, Fx: c.Fx, Fy: c.Fy, Cx: c.Cx, Cy: c.Cy,
+		Dist:     c.Distortion,
+		Position: render.V3(c.Position[0], c.Position[1], c.Position[2]),
+		Rotation: c.Rotation,
+	}
+}
+
+// BuildObservations reads the capture's fitting photos one at a time and
+// returns the trustworthy pixels of every segment. Photos are grouped by
+// camera so the ray cast of a camera serves all its photos; only one photo
+// is decoded at any time, so memory does not grow with the number of photos.
+func BuildObservations(ctx context.Context, c *capture.Capture, opts Options) (*ObservationSet, error) {
+	opts = opts.withDefaults()
+	m, _, err := mesh.Load(c.Resolve(c.Mesh))
+	if err != nil {
+		return nil, err
+	}
+	return buildObservations(ctx, c, m, opts)
+}
+
+func buildObservations(ctx context.Context, c *capture.Capture, m *render.Mesh, opts Options) (*ObservationSet, error) {
+	segs := c.EffectiveSegments(m)
+	labelSeg, err := c.SegmentIndex(m)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", c.Path, err)
+	}
+	set := &ObservationSet{PhotoRejections: map[int]Rejections{}, cameras: c.Cameras, lights: c.Lights}
+	for i, s := range segs {
+		model := s.Model
+		if model == "" {
+			model = capture.ModelDielectric
+		}
+		kind, err := brdf.ParseKind(model)
+		if err != nil {
+			return nil, fmt.Errorf("%s: segments[%d].model: %w", c.Path, i, err)
+		}
+		set.Segments = append(set.Segments, &SegmentObservations{
+			Name: s.Name, Kind: kind, ReferenceAlbedo: s.ReferenceAlbedo,
+			perCamera: make([]int, len(c.Cameras)),
+		})
+	}
+	scene, err := render.NewScene(m, opts.Threads)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", c.Resolve(c.Mesh), err)
+	}
+	diag := scene.Bounds().Diagonal()
+	offset := 1e-5 * math.Max(diag, 1e-3)
+
+	// Fitting photos grouped by camera, cameras in the order of their first
+	// photo, photos in capture order: a deterministic order.
+	fitPhotos := c.PhotosByUse(capture.UseFit)
+	if len(fitPhotos) == 0 {
+		return nil, fmt.Errorf("%s: no photo has use %q", c.Path, capture.UseFit)
+	}
+	var camOrder []int
+	byCam := map[int][]int{}
+	for _, pi := range fitPhotos {
+		_, ci := c.CameraByID(c.Photos[pi].Camera)
+		if ci < 0 {
+			return nil, fmt.Errorf("%s: photos[%d].camera: no camera %q", c.Path, pi, c.Photos[pi].Camera)
+		}
+		if _, ok := byCam[ci]; !ok {
+			camOrder = append(camOrder, ci)
+		}
+		byCam[ci] = append(byCam[ci], pi)
+	}
+
+	done := 0
+	report := func() {
+		if opts.Progress != nil {
+			opts.Progress(Progress{Stage: StageObservations, Photo: done, Photos: len(fitPhotos),
+				Fraction: observationShare * float64(done) / float64(len(fitPhotos))})
+		}
+	}
+	report()
+	for _, ci := range camOrder {
+		cam := pinhole(&c.Cameras[ci])
+		view, err := castView(ctx, scene, cam, labelSeg, opts)
+		if err != nil {
+			return nil, err
+		}
+		for _, pi := range byCam[ci] {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+			if err := addPhoto(ctx, c, pi, ci, view, scene, offset, set, opts); err != nil {
+				return nil, err
+			}
+			done++
+			report()
+		}
+	}
+	for _, s := range set.Segments {
+		if len(s.floors) > 0 {
+			f := append([]float64(nil), s.floors...)
+			sort.Float64s(f)
+			s.Floor = f[len(f)/2]
+		}
+	}
+	return set, nil
+}
+
+// observationShare is the part of the progress fraction given to reading
+// photos; the fit takes the rest.
+const observationShare = 0.3
+
+// view is one camera's ray cast, with the per-pixel tests that do not
+// depend on the photo.
+type view struct {
+	cam    render.Pinhole
+	gb     *render.GBuffer
+	seg    []int32 // capture segment per pixel; -1 miss, -2 unassigned triangle
+	status []uint8 // viewOK or the rejection reason
+	wo     []render.Vec3
+}
+
+const (
+	viewOK uint8 = iota
+	viewMiss
+	viewBorder
+	viewUnassigned
+	viewGrazing
+)
+
+func castView(ctx context.Context, scene *render.Scene, cam render.Pinhole, labelSeg []int, opts Options) (*view, error) {
+	w, h := cam.Width, cam.Height
+	gb, err := render.Cast(ctx, scene, cam, image.Rect(0, 0, w, h), opts.Threads)
+	if err != nil {
+		return nil, err
+	}
+	v := &view{cam: cam, gb: gb, seg: make([]int32, w*h), status: make([]uint8, w*h), wo: make([]render.Vec3, w*h)}
+	for i := range v.seg {
+		v.seg[i] = -1
+		if !gb.Hit[i] {
+			continue
+		}
+		l := int(gb.Segment[i])
+		if l >= 0 && l < len(labelSeg) && labelSeg[l] >= 0 {
+			v.seg[i] = int32(labelSeg[l])
+		} else if len(labelSeg) == 0 {
+			v.seg[i] = 0
+		} else {
+			v.seg[i] = -2
+		}
+	}
+	interior := erode(v.seg, w, h, opts.BorderPixels)
+	for i := range v.seg {
+		switch {
+		case v.seg[i] == -1:
+			v.status[i] = viewMiss
+			continue
+		case !interior[i]:
+			v.status[i] = viewBorder
+			continue
+		case v.seg[i] == -2:
+			v.status[i] = viewUnassigned
+			continue
+		}
+		wo := cam.Position.Sub(gb.Pos[i]).Norm()
+		v.wo[i] = wo
+		if gb.Ng[i].Dot(wo) <= 0 || gb.Ns[i].Dot(wo) < opts.MinCosine {
+			v.status[i] = viewGrazing
+		}
+	}
+	return v, nil
+}
+
+// erode marks the pixels whose (2r+1) x (2r+1) neighbourhood lies inside
+// the image and has one segment value throughout: a separable test, first
+// along rows then along columns, linear in the number of pixels.
+func erode(seg []int32, w, h, r int) []bool {
+	out := make([]bool, w*h)
+	if r <= 0 {
+		for i := range out {
+			out[i] = true
+		}
+		return out
+	}
+	horiz := make([]bool, w*h)
+	for y := 0; y < h; y++ {
+		row := seg[y*w : (y+1)*w]
+		for x0 := 0; x0 < w; {
+			x1 := x0
+			for x1 < w && row[x1] == row[x0] {
+				x1++
+			}
+			// run [x0, x1): interior where x-r >= x0 and x+r < x1, and
+			// away from the image edge.
+			for x := max(x0+r, r); x < min(x1-r, w-r); x++ {
+				horiz[y*w+x] = true
+			}
+			x0 = x1
+		}
+	}
+	for x := 0; x < w; x++ {
+		for y0 := 0; y0 < h; {
+			y1 := y0
+			s := seg[y0*w+x]
+			for y1 < h && horiz[y1*w+x] == horiz[y0*w+x] && seg[y1*w+x] == s {
+				y1++
+			}
+			if horiz[y0*w+x] {
+				for y := max(y0+r, r); y < min(y1-r, h-r); y++ {
+					out[y*w+x] = true
+				}
+			}
+			y0 = y1
+		}
+	}
+	return out
+}
+
+type photoLight struct {
+	kind      string
+	pos, dir  render.Vec3
+	power     [3]float64
+	radius    float64
+	occluding bool
+}
+
+// pick is one drawn pixel of one segment.
+type pick struct {
+	seg int32
+	pix int32
+}
+
+func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, v *view, scene *render.Scene, offset float64, set *ObservationSet, opts Options) error {
+	ph := &c.Photos[pi]
+	dec, err := c.Decoding(pi)
+	if err != nil {
+		return fmt.Errorf("%s: photos[%d]: %w", c.Path, pi, err)
+	}
+	img, err := c.LoadPhoto(pi)
+	if err != nil {
+		return err
+	}
+	w, h := v.cam.Width, v.cam.Height
+	mask, err := c.LoadMask(pi, w, h)
+	if err != nil {
+		return err
+	}
+	var lights []photoLight
+	for k, id := range ph.Lights {
+		l, _ := c.LightByID(id)
+		if l == nil {
+			return fmt.Errorf("%s: photos[%d].lights[%d]: no light %q", c.Path, pi, k, id)
+		}
+		pl := photoLight{kind: l.Type, radius: l.Radius}
+		switch l.Type {
+		case capture.LightDirectional:
+			d := l.UnitDirection()
+			pl.dir = render.V3(d[0], d[1], d[2])
+			pl.power = l.Irradiance
+		default: // point, and sphere as a point at its centre: its far-field intensity is the same
+			pl.pos = render.V3(l.Position[0], l.Position[1], l.Position[2])
+			pl.power = l.Intensity
+		}
+		lights = append(lights, pl)
+	}
+	expo := dec.Exposure
+	if expo == 0 {
+		expo = 1
+	}
+	floor := opts.NoiseFloor
+	if floor <= 0 {
+		floor = 0.002 * expo
+	}
+
+	var rej Rejections
+	nseg := len(set.Segments)
+	cands := make([][]int32, nseg)
+	for i := 0; i < w*h; i++ {
+		switch v.status[i] {
+		case viewMiss:
+			continue
+		case viewBorder:
+			rej.Border++
+			continue
+		case viewUnassigned:
+			rej.Unassigned++
+			continue
+		case viewGrazing:
+			rej.Grazing++
+			continue
+		}
+		if lightGrazing(v, i, lights, opts.MinCosine) {
+			rej.Grazing++
+			continue
+		}
+		if mask != nil && !mask[i] {
+			rej.Masked++
+			continue
+		}
+		if img.Saturated != nil && img.Saturated[i] {
+			rej.Saturated++
+			continue
+		}
+		px := img.Pix[3*i : 3*i+3]
+		if (float64(px[0])+float64(px[1])+float64(px[2]))/3 < floor {
+			rej.UnderExposed++
+			continue
+		}
+		s := v.seg[i]
+		cands[s] = append(cands[s], int32(i))
+	}
+
+	// Stratified draw per segment: the candidates (in raster order, so
+	// neighbours in the list are neighbours on the surface) are cut into
+	// Samples equal strata and one pixel is drawn uniformly in each.
+	var picks []pick
+	for s, cs := range cands {
+		n := len(cs)
+		if opts.Samples < 0 || n <= opts.Samples {
+			for _, p := range cs {
+				picks = append(picks, pick{int32(s), p})
+			}
+			continue
+		}
+		rng := rand.New(rand.NewPCG(opts.Seed, uint64(pi)<<20|uint64(s)))
+		k := opts.Samples
+		for j := 0; j < k; j++ {
+			lo := j * n / k
+			hi := (j + 1) * n / k
+			picks = append(picks, pick{int32(s), cs[lo+rng.IntN(hi-lo)]})
+		}
+	}
+
+	// Shadow rays and observations, in parallel over fixed chunks whose
+	// results are appended in chunk order (deterministic).
+	const chunk = 4096
+	nchunks := (len(picks) + chunk - 1) / chunk
+	type chunkOut struct {
+		obs    []Observations
+		shadow int
+		normal []render.Vec3
+		pos    []render.Vec3
+	}
+	outs := make([]chunkOut, nchunks)
+	var next sync.Mutex
+	ni := 0
+	var wg sync.WaitGroup
+	for t := 0; t < max(1, min(opts.Threads, nchunks)); t++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				next.Lock()
+				k := ni
+				ni++
+				next.Unlock()
+				if k >= nchunks || ctx.Err() != nil {
+					return
+				}
+				o := &outs[k]
+				o.obs = make([]Observations, nseg)
+				o.normal = make([]render.Vec3, nseg)
+				o.pos = make([]render.Vec3, nseg)
+				for _, p := range picks[k*chunk : min((k+1)*chunk, len(picks))] {
+					if !observe(v, int(p.pix), img.Pix, lights, scene, offset, &o.obs[p.seg], pi) {
+						o.shadow++
+						continue
+					}
+					o.normal[p.seg] = o.normal[p.seg].Add(v.gb.Ns[p.pix])
+					o.pos[p.seg] = o.pos[p.seg].Add(v.gb.Pos[p.pix])
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+	used := false
+	for k := range outs {
+		rej.Shadow += outs[k].shadow
+		for s := range outs[k].obs {
+			so := set.Segments[s]
+			n0 := so.Obs.Len()
+			so.Obs.Append(&outs[k].obs[s])
+			if added := so.Obs.Len() - n0; added > 0 {
+				used = true
+				so.perCamera[ci] += added
+				so.sumNormal = so.sumNormal.Add(outs[k].normal[s])
+				so.sumPos = so.sumPos.Add(outs[k].pos[s])
+			}
+		}
+	}
+	for s := range set.Segments {
+		if len(cands[s]) > 0 {
+			set.Segments[s].floors = append(set.Segments[s].floors, floor)
+		}
+	}
+	if used {
+		set.PhotosUsed = append(set.PhotosUsed, pi)
+	}
+	set.PhotoRejections[pi] = rej
+	set.Rejections.add(rej)
+	return nil
+}
+
+// lightGrazing reports a light of the photo that meets the surface within
+// acos(minCos) of its tangent plane from the front: the model is least
+// reliable there (normals, registration). Lights behind the surface simply
+// do not contribute.
+func lightGrazing(v *view, i int, lights []photoLight, minCos float64) bool {
+	n := v.gb.Ns[i]
+	p := v.gb.Pos[i]
+	for k := range lights {
+		var wi render.Vec3
+		if lights[k].kind == capture.LightDirectional {
+			wi = lights[k].dir
+		} else {
+			wi = lights[k].pos.Sub(p).Norm()
+		}
+		if c := n.Dot(wi); c > 0 && c < minCos {
+			return true
+		}
+	}
+	return false
+}
+
+// observe adds pixel i as an observation unless every light is shadowed or
+// behind the surface; it reports whether it did.
+func observe(v *view, i int, pix []float32, lights []photoLight, scene *render.Scene, offset float64, obs *Observations, photo int) bool {
+	p := v.gb.Pos[i]
+	ns := v.gb.Ns[i]
+	ng := v.gb.Ng[i]
+	frame := render.NewFrame(ns)
+	origin := p.AddScaled(ng, offset)
+	nl := 0
+	for k := range lights {
+		L := &lights[k]
+		var wi render.Vec3
+		var e [3]float64
+		tmax := math.Inf(1)
+		if L.kind == capture.LightDirectional {
+			wi = L.dir
+			e = L.power
+		} else {
+			d := L.pos.Sub(p)
+			r2 := d.Len2()
+			r := math.Sqrt(r2)
+			wi = d.Mul(1 / r)
+			for c := range e {
+				e[c] = L.power[c] / r2
+			}
+			tmax = r - L.radius - 2*offset
+		}
+		cos := ns.Dot(wi)
+		if cos <= 0 || ng.Dot(wi) <= 0 {
+			continue
+		}
+		if scene.Occluded(render.Ray{O: origin, D: wi}, tmax) {
+			continue
+		}
+		for c := range e {
+			e[c] *= cos
+		}
+		obs.AddLight(frame.ToLocal(wi), e)
+		nl++
+	}
+	if nl == 0 {
+		return false
+	}
+	q := pix[3*i : 3*i+3]
+	obs.Add(frame.ToLocal(v.wo[i]), [3]float64{float64(q[0]), float64(q[1]), float64(q[2])}, photo)
+	return true
+}
