@@ -73,6 +73,14 @@ type Settings struct {
 	// TransparentBackground gives camera rays that miss the object alpha 0
 	// and no radiance, instead of showing the environment.
 	TransparentBackground bool
+	// Emission, if set, makes mesh segment k emit radiance Emission[k]
+	// (W/(m^2 sr) per channel, from both sides). Emitting surfaces are found
+	// only by BRDF sampling, not by next-event estimation, so they suit
+	// large dim emitters (light panels, the walls of a furnace test).
+	Emission []brdf.RGB
+	// lambertian replaces brdf's model by the ideal Lambertian Diffuse/pi
+	// with cosine sampling (tests against analytic results only).
+	lambertian bool
 	// OnPass, if set, is called after each progressive pass (1, 2, 4, ...
 	// samples per pixel, ending at SPP) on the goroutine that called
 	// Render, with the film as it stands; the film must not be kept or
@@ -333,12 +341,18 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 		if depth == 0 {
 			alpha = 1
 		}
-		if depth >= it.s.MaxDepth {
-			return L, alpha, nil
-		}
 		seg := int(h.Segment)
 		if seg < 0 || seg >= len(it.mats) {
 			return L, alpha, fmt.Errorf("render: the mesh has segment %d but only %d materials were given", seg, len(it.mats))
+		}
+		if seg < len(it.s.Emission) {
+			Le := &it.s.Emission[seg]
+			for c := 0; c < 3; c++ {
+				L[c] += beta[c] * Le[c]
+			}
+		}
+		if depth >= it.s.MaxDepth {
+			return L, alpha, nil
 		}
 		mat := &it.mats[seg]
 
@@ -369,12 +383,12 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 			if wi.Z <= 0 {
 				continue
 			}
-			f := brdf.Eval(mat, wo, wi)
+			f := it.eval(mat, wo, wi)
 			wgt := wi.Z
 			if ls.pdf > 0 {
 				wgt /= ls.pdf
 				if it.s.Strategy == MIS {
-					wgt *= powerHeuristic(ls.pdf, brdf.PDF(mat, wo, wi))
+					wgt *= powerHeuristic(ls.pdf, it.pdf(mat, wo, wi))
 				}
 			}
 			c := brdf.RGB{f[0] * ls.li[0] * wgt, f[1] * ls.li[1] * wgt, f[2] * ls.li[2] * wgt}
@@ -394,10 +408,10 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 				if d, Le, pdf := it.env.Sample(u0, u1); pdf > 0 && d.Dot(ng) > 0 {
 					wi := fr.ToLocal(d)
 					if wi.Z > 0 {
-						f := brdf.Eval(mat, wo, wi)
+						f := it.eval(mat, wo, wi)
 						wgt := wi.Z / pdf
 						if it.s.Strategy == MIS {
-							wgt *= powerHeuristic(pdf, brdf.PDF(mat, wo, wi))
+							wgt *= powerHeuristic(pdf, it.pdf(mat, wo, wi))
 						}
 						c := brdf.RGB{f[0] * Le[0] * wgt, f[1] * Le[1] * wgt, f[2] * Le[2] * wgt}
 						if (c[0] > 0 || c[1] > 0 || c[2] > 0) && !it.sc.Occluded(Ray{O: p, D: d}, math.Inf(1)) {
@@ -413,7 +427,7 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 		// BRDF sampling continues the path (and, with MIS or BRDF-only,
 		// finds the environment and sphere lights).
 		u := smp.Get3D()
-		wi, pdf, weight, ok := brdf.Sample(mat, wo, u)
+		wi, pdf, weight, ok := it.sampleBRDF(mat, wo, u)
 		if !ok {
 			return L, alpha, nil
 		}
@@ -439,6 +453,43 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 		prevP, prevPdf = p, pdf
 		ray = Ray{O: p, D: d}
 	}
+}
+
+func (it *integrator) eval(p *brdf.Params, wo, wi brdf.Vec) brdf.RGB {
+	if it.s.lambertian {
+		if wo.Z <= 0 || wi.Z <= 0 {
+			return brdf.RGB{}
+		}
+		return brdf.RGB{p.Diffuse[0] / math.Pi, p.Diffuse[1] / math.Pi, p.Diffuse[2] / math.Pi}
+	}
+	return brdf.Eval(p, wo, wi)
+}
+
+func (it *integrator) pdf(p *brdf.Params, wo, wi brdf.Vec) float64 {
+	if it.s.lambertian {
+		if wo.Z <= 0 || wi.Z <= 0 {
+			return 0
+		}
+		return wi.Z / math.Pi
+	}
+	return brdf.PDF(p, wo, wi)
+}
+
+func (it *integrator) sampleBRDF(p *brdf.Params, wo brdf.Vec, u [3]float64) (brdf.Vec, float64, brdf.RGB, bool) {
+	if it.s.lambertian {
+		if wo.Z <= 0 {
+			return brdf.Vec{}, 0, brdf.RGB{}, false
+		}
+		// Cosine-weighted hemisphere (Malley's method): weight = albedo.
+		r := math.Sqrt(u[1])
+		sn, cs := math.Sincos(2 * math.Pi * u[2])
+		z := math.Sqrt(math.Max(0, 1-u[1]))
+		if z <= 0 {
+			return brdf.Vec{}, 0, brdf.RGB{}, false
+		}
+		return brdf.Vec{X: r * cs, Y: r * sn, Z: z}, z / math.Pi, p.Diffuse, true
+	}
+	return brdf.Sample(p, wo, u)
 }
 
 // offsetPoint moves a hit point off its surface along the oriented

@@ -43,18 +43,31 @@ var sobolMatrices = func() (v [sobolDims][32]uint32) {
 	return
 }()
 
+// sobolBytes holds, per dimension and per byte of the index, the XOR of
+// the direction numbers selected by each of the 256 byte values, so a
+// point costs four lookups instead of a loop over 32 bits.
+var sobolBytes = func() (t [sobolDims][4][256]uint32) {
+	for d := 0; d < sobolDims; d++ {
+		for b := 0; b < 4; b++ {
+			for v := 0; v < 256; v++ {
+				var x uint32
+				for i := 0; i < 8; i++ {
+					if v>>i&1 != 0 {
+						x ^= sobolMatrices[d][8*b+i]
+					}
+				}
+				t[d][b][v] = x
+			}
+		}
+	}
+	return
+}()
+
 // sobol returns the 32-bit fraction of point index in dimension dim
 // (dim < sobolDims) of the unscrambled Sobol sequence.
 func sobol(index uint32, dim int) uint32 {
-	var x uint32
-	m := &sobolMatrices[dim]
-	for i := 0; index != 0; i++ {
-		if index&1 != 0 {
-			x ^= m[i]
-		}
-		index >>= 1
-	}
-	return x
+	t := &sobolBytes[dim]
+	return t[0][index&0xff] ^ t[1][index>>8&0xff] ^ t[2][index>>16&0xff] ^ t[3][index>>24]
 }
 
 // laineKarras is the hash-based bit permutation of Burley, "Practical
