@@ -33,9 +33,12 @@
 // # Limits
 //
 // Dimensions are read from the header and checked against MaxPixels before
-// anything is allocated, and the pixel buffer grows only as pixel data
-// actually arrives, so a short file that claims a large image costs memory
-// in proportion to its length, not to its claim.
+// anything is allocated. The pixel buffer is allocated whole only when the
+// input is known (a file, a bytes.Reader) to be long enough to hold the
+// image; otherwise it grows as pixel data arrives. So a truncated file that
+// claims a large image costs memory in proportion to what it holds, not to
+// its claim. Old-style RGBE runs, which legitimately repeat a pixel across
+// many from four bytes, are bounded by MaxPixels like everything else.
 package hdr
 
 import (
