@@ -328,9 +328,43 @@ func decode(path string) (image.Image, error) {
 		img, err = tiff.Decode(f) // reads through io.ReaderAt, not all at once
 	}
 	if err != nil {
+		if truncated(f, format) {
+			return nil, &FormatError{File: path, Msg: "truncated " + formatName(format) + " file (it does not end with the " + endMarker[format].name + ")", Err: err}
+		}
 		return nil, decodeError(path, format, err)
 	}
 	return img, nil
+}
+
+// endMarker is what a complete file of each format ends with.
+var endMarker = map[string]struct {
+	name  string
+	bytes string
+}{
+	"png":  {"IEND chunk", "\x00\x00\x00\x00IEND\xaeB`\x82"},
+	"jpeg": {"end-of-image marker FF D9", "\xff\xd9"},
+}
+
+// truncated reports whether a file that failed to decode lacks its format's
+// end marker, which makes "the file was cut short" the likely cause.
+func truncated(f *os.File, format string) bool {
+	m, ok := endMarker[format]
+	if !ok {
+		return false
+	}
+	st, err := f.Stat()
+	if err != nil {
+		return false
+	}
+	n := int64(len(m.bytes))
+	if st.Size() < n {
+		return true
+	}
+	tail := make([]byte, n)
+	if _, err := f.ReadAt(tail, st.Size()-n); err != nil {
+		return false
+	}
+	return string(tail) != m.bytes
 }
 
 // Load decodes the photo at path into linear RGB with its saturation mask.
