@@ -404,7 +404,13 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, v *view, scen
 		}
 		px := img.Pix[3*i : 3*i+3]
 		if (float64(px[0])+float64(px[1])+float64(px[2]))/3 < floor {
-			rej.UnderExposed++
+			// A dark pixel is either in the cast shadow of the photo's
+			// lights or simply under-exposed; a shadow ray tells which.
+			if inShadow(v, i, lights, scene, offset) {
+				rej.Shadow++
+			} else {
+				rej.UnderExposed++
+			}
 			continue
 		}
 		s := v.seg[i]
@@ -524,6 +530,36 @@ func lightGrazing(v *view, i int, lights []photoLight, minCos float64) bool {
 		}
 	}
 	return false
+}
+
+// inShadow reports whether every light of the photo that faces pixel i is
+// occluded (and at least one faces it).
+func inShadow(v *view, i int, lights []photoLight, scene *render.Scene, offset float64) bool {
+	p, ns, ng := v.gb.Pos[i], v.gb.Ns[i], v.gb.Ng[i]
+	origin := p.AddScaled(ng, offset)
+	facing := 0
+	for k := range lights {
+		wi, tmax := lights[k].towards(p, offset)
+		if ns.Dot(wi) <= 0 || ng.Dot(wi) <= 0 {
+			continue
+		}
+		facing++
+		if !scene.Occluded(render.Ray{O: origin, D: wi}, tmax) {
+			return false
+		}
+	}
+	return facing > 0
+}
+
+// towards returns the unit direction from p to the light and the distance
+// a shadow ray may travel.
+func (L *photoLight) towards(p render.Vec3, offset float64) (render.Vec3, float64) {
+	if L.kind == capture.LightDirectional {
+		return L.dir, math.Inf(1)
+	}
+	d := L.pos.Sub(p)
+	r := d.Len()
+	return d.Mul(1 / r), r - L.radius - 2*offset
 }
 
 // observe adds pixel i as an observation unless every light is shadowed or

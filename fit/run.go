@@ -95,10 +95,12 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 		res.Warnings = append(res.Warnings, res.Scale.Note)
 	}
 	n := len(set.Segments)
-	for si, so := range set.Segments {
+	fits := make([]*SegmentFit, n)
+	fitOne := func(si int) error {
 		if err := ctx.Err(); err != nil {
-			return nil, err
+			return err
 		}
+		so := set.Segments[si]
 		eps := so.Floor
 		if opts.NoiseFloor > 0 {
 			eps = opts.NoiseFloor
@@ -116,8 +118,73 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 		}
 		sf, err := fitSegment(ctx, &so.Obs, so.Kind, so.Name, si, n, eps, set.advice(so), o)
 		if err != nil {
-			return nil, err
+			return err
 		}
+		fits[si] = sf
+		return nil
+	}
+	// Calibration targets first. The linear solve above treats a target as
+	// Lambertian; a real card has a faint specular lobe that biases it by a
+	// few percent. So the targets are fitted with the full model, the scale
+	// is corrected so that their fitted diffuse colour equals the reference
+	// albedo (photos fix only the product of scale and reflectance), and
+	// they are fitted again at the corrected scale.
+	if res.Scale.Solved {
+		for si, so := range set.Segments {
+			if so.ReferenceAlbedo != nil {
+				if err := fitOne(si); err != nil {
+					return nil, err
+				}
+			}
+		}
+		// Photos fix s*d and s*F0 together, but a dielectric's diffuse
+		// weight depends on F0 too, so one correction is not exact: repeat
+		// until the correction is below 1e-4 (two or three rounds).
+		for round := 0; round < 5; round++ {
+			var num, den float64
+			for si, so := range set.Segments {
+				if so.ReferenceAlbedo == nil || !fits[si].Fitted {
+					continue
+				}
+				for c := 0; c < 3; c++ {
+					num += fits[si].Params.Diffuse[c] * so.ReferenceAlbedo[c]
+					den += so.ReferenceAlbedo[c] * so.ReferenceAlbedo[c]
+				}
+			}
+			if den <= 0 || num <= 0 {
+				break
+			}
+			k := num / den
+			if math.Abs(k-1) < 1e-4 {
+				break
+			}
+			res.Scale.Value *= k
+			res.Scale.Sigma *= k
+			for _, so := range set.Segments {
+				so.Obs.ScaleIrradiance(k)
+			}
+			for si, so := range set.Segments {
+				if so.ReferenceAlbedo != nil {
+					passes := fits[si].Passes
+					if err := fitOne(si); err != nil {
+						return nil, err
+					}
+					fits[si].Passes += passes
+				}
+			}
+		}
+		res.Scale.Note = fmt.Sprintf("solved from %s (%d observations): photo radiance = %.5g x capture light units",
+			joinList(res.Scale.Targets), res.Scale.Observations, res.Scale.Value)
+	}
+	for si := range set.Segments {
+		if fits[si] == nil {
+			if err := fitOne(si); err != nil {
+				return nil, err
+			}
+		}
+	}
+	for si, so := range set.Segments {
+		sf := fits[si]
 		if so.ReferenceAlbedo != nil && sf.Fitted {
 			ra := *so.ReferenceAlbedo
 			worst := 0.0
@@ -126,7 +193,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 			}
 			if worst > 0.05 {
 				sf.Warnings = append(sf.Warnings, fmt.Sprintf(
-					"calibration target fits a diffuse colour %.3f %.3f %.3f, %.0f%% off its reference albedo: check that it is lit evenly and not glossy",
+					"calibration target fits a diffuse colour %.3f %.3f %.3f, %.0f%% off its reference albedo: its colour differs from the reference (check the reference values, and that it is lit evenly)",
 					sf.Params.Diffuse[0], sf.Params.Diffuse[1], sf.Params.Diffuse[2], 100*worst))
 			}
 		}
