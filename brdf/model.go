@@ -15,35 +15,24 @@ type Grad [3][MaxParams]float64
 // horizon. Eval(p, wo, wi) == Eval(p, wi, wo) exactly: the arithmetic is
 // arranged symmetrically.
 func Eval(p *Params, wo, wi Vec) RGB {
-	muO, muI := wo.Z, wi.Z
-	if !(muO > 0 && muI > 0) {
+	if !(wo.Z > 0 && wi.Z > 0) {
 		return RGB{}
 	}
-	d, f0 := p.effective()
-	a2 := p.Alpha()
-	a2 *= a2
+	d0, d1, d2, s0, s1, s2 := p.coeffs()
 	var gm geometry
-	gm.set(a2, wo, wi)
-	var f RGB
-	for c := 0; c < 3; c++ {
-		one := 1 - f0[c]
-		f[c] = d[c]*one*one*gm.kd + (f0[c]+one*gm.w)*gm.dv
-	}
-	return f
+	gm.set(p.alpha2(), wo, wi)
+	return RGB{gm.channel(d0, s0), gm.channel(d1, s1), gm.channel(d2, s2)}
 }
 
 // EvalLobes returns the diffuse and specular parts of Eval separately
 // (their sum is Eval's value up to rounding).
 func EvalLobes(p *Params, wo, wi Vec) (diffuse, specular RGB) {
-	muO, muI := wo.Z, wi.Z
-	if !(muO > 0 && muI > 0) {
+	if !(wo.Z > 0 && wi.Z > 0) {
 		return
 	}
 	d, f0 := p.effective()
-	a2 := p.Alpha()
-	a2 *= a2
 	var gm geometry
-	gm.set(a2, wo, wi)
+	gm.set(p.alpha2(), wo, wi)
 	for c := 0; c < 3; c++ {
 		one := 1 - f0[c]
 		diffuse[c] = d[c] * one * one * gm.kd
@@ -52,11 +41,20 @@ func EvalLobes(p *Params, wo, wi Vec) (diffuse, specular RGB) {
 	return
 }
 
+// channel returns the model's value for one channel of diffuse albedo d
+// and F0 f0. (The hot paths work on scalars: small arrays on the stack
+// cost more than the arithmetic.)
+func (g *geometry) channel(d, f0 float64) float64 {
+	one := 1 - f0
+	return d*one*one*g.kd + (f0+one*g.w)*g.dv
+}
+
 // geometry holds the parameter-independent factors of the model for one
 // pair of directions.
 type geometry struct {
-	muH float64 // n.h
-	t   float64 // (n.h)^2 (alpha^2 - 1) + 1, the denominator of D
+	hz2 float64 // (muO + muI)^2, the squared z of the unnormalised half vector
+	l2  float64 // |wo + wi|^2
+	q   float64 // hx^2 + hy^2 + alpha^2 hz^2: D's denominator times |wo+wi|^2
 	so  float64 // sqrt(muO^2 (1 - alpha^2) + alpha^2)
 	si  float64 // the same for muI
 	den float64 // muI so + muO si
@@ -66,25 +64,45 @@ type geometry struct {
 }
 
 // set fills g for unit directions wo, wi above the horizon and a2 = alpha^2.
+//
+// With H = wo + wi unnormalised, (n.h)^2 = Hz^2 / |H|^2, so GGX's
+// denominator (n.h)^2 (alpha^2 - 1) + 1 is q / |H|^2 with
+// q = Hx^2 + Hy^2 + alpha^2 Hz^2 (free of cancellation), and
+// D = alpha^2 |H|^4 / (pi q^2): no square root or division for n.h.
+//
 // Every expression is symmetric in wo and wi, and the products that are
 // summed are rounded explicitly (float64 conversions forbid fused
 // multiply-adds), so swapping the directions gives bit-identical results.
 func (g *geometry) set(a2 float64, wo, wi Vec) {
 	muO, muI := wo.Z, wi.Z
-	l := wo.Add(wi).Len()
-	g.muH = (muO + muI) / l
+	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
+	hxy := float64(hx*hx) + float64(hy*hy)
+	g.hz2 = hz * hz
+	l2 := hxy + g.hz2
+	g.l2 = l2
+	g.q = hxy + a2*g.hz2
 	// For unit vectors wo.h = wi.h = |wo + wi| / 2: one symmetric value.
-	voh := clamp01(0.5 * l)
-	g.t = g.muH*g.muH*(a2-1) + 1
-	dist := a2 / (math.Pi * g.t * g.t)
+	voh := 0.5 * math.Sqrt(l2)
+	if voh > 1 {
+		voh = 1
+	}
 	g.so = math.Sqrt(float64(muO*muO*(1-a2)) + a2)
 	g.si = math.Sqrt(float64(muI*muI*(1-a2)) + a2)
 	// Height-correlated Smith G2 / (4 muO muI) written as one fraction
-	// (Heitz 2014, eq. 99 with Lambda from eq. 72).
+	// (Heitz 2014, eq. 99 with Lambda from eq. 72): V = 0.5 / den.
 	g.den = float64(muI*g.so) + float64(muO*g.si)
-	g.dv = dist * (0.5 / g.den)
+	g.dv = a2 * l2 * l2 / (2 * math.Pi * g.q * g.q * g.den)
 	g.w = pow5(1 - voh)
-	g.kd = float64((1-pow5(1-clamp01(muO)))*(1-pow5(1-clamp01(muI)))) * (1 / math.Pi)
+	g.kd = float64((1-pow5(1-unit(muO)))*(1-pow5(1-unit(muI)))) * (1 / math.Pi)
+}
+
+// unit clamps a cosine to at most 1 (directions are unit vectors up to
+// rounding; callers have checked the lower bound).
+func unit(x float64) float64 {
+	if x > 1 {
+		return 1
+	}
+	return x
 }
 
 // EvalGrad returns the same value as Eval and stores in g the analytic
@@ -97,55 +115,51 @@ func EvalGrad(p *Params, wo, wi Vec, g *Grad) RGB {
 	if !(muO > 0 && muI > 0) {
 		return RGB{}
 	}
-	d, f0 := p.effective()
 	alpha := p.Alpha()
-	a2 := alpha * alpha
 	var gm geometry
-	gm.set(a2, wo, wi)
+	gm.set(alpha*alpha, wo, wi)
 
 	// d(D V)/d alpha = D V (dlnD/dalpha + dlnV/dalpha), with
-	// dlnD/dalpha = 2/alpha - 4 alpha muH^2 / t and
+	// dlnD/dalpha = 2/alpha - 4 alpha (n.h)^2 / ((n.h)^2 (alpha^2-1) + 1)
+	//             = 2/alpha - 4 alpha Hz^2 / q and
 	// dlnV/dalpha = -(muI dso + muO dsi) / den, dso = alpha (1 - muO^2) / so.
 	dso := alpha * (1 - muO*muO) / gm.so
 	dsi := alpha * (1 - muI*muI) / gm.si
-	dlog := 2/alpha - 4*alpha*gm.muH*gm.muH/gm.t - (muI*dso+muO*dsi)/gm.den
+	dlog := 2/alpha - 4*alpha*gm.hz2/gm.q - (muI*dso+muO*dsi)/gm.den
 	dDVdr := 0.0
 	if p.Roughness > MinRoughness {
 		dDVdr = gm.dv * dlog * 2 * p.Roughness // dalpha/dr = 2r
 	}
 
-	var f RGB
-	var dfdd, dfds, dfdr RGB // derivatives per channel w.r.t. own diffuse, own F0, r
-	for c := 0; c < 3; c++ {
-		one := 1 - f0[c]
-		spec := f0[c] + one*gm.w
-		f[c] = d[c]*one*one*gm.kd + spec*gm.dv
-		dfdd[c] = one * one * gm.kd
-		dfds[c] = (1-gm.w)*gm.dv - 2*d[c]*one*gm.kd
-		dfdr[c] = spec * dDVdr
-	}
+	d0, d1, d2, s0, s1, s2 := p.coeffs()
+	f0, dd0, ds0, dr0 := gm.channelGrad(d0, s0, dDVdr)
+	f1, dd1, ds1, dr1 := gm.channelGrad(d1, s1, dDVdr)
+	f2, dd2, ds2, dr2 := gm.channelGrad(d2, s2, dDVdr)
 	switch p.Kind {
 	case Dielectric:
-		for c := 0; c < 3; c++ {
-			g[c][c] = dfdd[c]
-			g[c][3] = dfds[c]
-			g[c][4] = dfdr[c]
-		}
+		g[0][0], g[0][3], g[0][4] = dd0, ds0, dr0
+		g[1][1], g[1][3], g[1][4] = dd1, ds1, dr1
+		g[2][2], g[2][3], g[2][4] = dd2, ds2, dr2
 	case Metal:
-		for c := 0; c < 3; c++ {
-			g[c][c] = dfds[c] // d is zero, so only the specular part
-			g[c][3] = dfdr[c]
-		}
+		// d is zero, so the F0 derivative is the specular part alone.
+		g[0][0], g[0][3] = ds0, dr0
+		g[1][1], g[1][3] = ds1, dr1
+		g[2][2], g[2][3] = ds2, dr2
 	case Free:
-		for c := 0; c < 3; c++ {
-			g[c][c] = dfdd[c]
-			g[c][3+c] = dfds[c]
-			g[c][6] = dfdr[c]
-		}
+		g[0][0], g[0][3], g[0][6] = dd0, ds0, dr0
+		g[1][1], g[1][4], g[1][6] = dd1, ds1, dr1
+		g[2][2], g[2][5], g[2][6] = dd2, ds2, dr2
 	}
-	return f
+	return RGB{f0, f1, f2}
 }
 
-// halfCos returns n.h for the half vector h of wo and wi, as geometry.set
-// computes it.
-func halfCos(wo, wi Vec) float64 { return (wo.Z + wi.Z) / wo.Add(wi).Len() }
+// channelGrad returns channel(d, f0) and its derivatives with respect to
+// d, f0 and the roughness r, given dDVdr = d(D V)/dr.
+func (g *geometry) channelGrad(d, f0, dDVdr float64) (f, dd, ds, dr float64) {
+	one := 1 - f0
+	f = g.channel(d, f0)
+	dd = one * one * g.kd
+	ds = (1-g.w)*g.dv - 2*d*one*g.kd
+	dr = (f0 + one*g.w) * dDVdr
+	return
+}

@@ -104,8 +104,29 @@ type Params struct {
 
 // Alpha returns the GGX width alpha = max(r, MinRoughness)^2.
 func (p *Params) Alpha() float64 {
-	r := math.Max(p.Roughness, MinRoughness)
+	r := p.Roughness
+	if !(r > MinRoughness) { // also NaN
+		r = MinRoughness
+	}
 	return r * r
+}
+
+// alpha2 returns Alpha() squared.
+func (p *Params) alpha2() float64 {
+	a := p.Alpha()
+	return a * a
+}
+
+// coeffs returns effective() as scalars, for the hot paths.
+func (p *Params) coeffs() (d0, d1, d2, s0, s1, s2 float64) {
+	switch p.Kind {
+	case Dielectric:
+		s := p.Specular[0]
+		return p.Diffuse[0], p.Diffuse[1], p.Diffuse[2], s, s, s
+	case Metal:
+		return 0, 0, 0, p.Specular[0], p.Specular[1], p.Specular[2]
+	}
+	return p.Diffuse[0], p.Diffuse[1], p.Diffuse[2], p.Specular[0], p.Specular[1], p.Specular[2]
 }
 
 // effective returns the diffuse albedo and F0 the model uses, with the

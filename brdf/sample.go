@@ -19,27 +19,40 @@ func Sample(p *Params, wo Vec, u [3]float64) (wi Vec, pdf float64, weight RGB, o
 	if !(muO > 0) {
 		return Vec{}, 0, RGB{}, false
 	}
-	d, f0 := p.effective()
-	ps := specularProbability(&d, &f0, muO)
+	d0, d1, d2, s0, s1, s2 := p.coeffs()
+	ps := specularProbability(d0, d1, d2, s0, s1, s2, muO)
 	alpha := p.Alpha()
 	if u[0] < ps {
+		// Reflect wo about the unnormalised normal m:
+		// wi = 2 (wo.m) m / |m|^2 - wo.
 		m := sampleVisibleNormal(alpha, wo, u[1], u[2])
-		wi = m.Scale(2 * wo.Dot(m)).Sub(wo)
+		m2 := m.Dot(m)
+		if !(m2 > 0) {
+			return Vec{}, 0, RGB{}, false
+		}
+		k := 2 * wo.Dot(m) / m2
+		wi = Vec{k*m.X - wo.X, k*m.Y - wo.Y, k*m.Z - wo.Z}
 	} else {
 		// Cosine-weighted hemisphere (Malley's method).
 		r := math.Sqrt(u[1])
 		s, c := math.Sincos(2 * math.Pi * u[2])
-		wi = Vec{r * c, r * s, math.Sqrt(math.Max(0, 1-u[1]))}
+		z := 1 - u[1]
+		if z < 0 {
+			z = 0
+		}
+		wi = Vec{r * c, r * s, math.Sqrt(z)}
 	}
 	if !(wi.Z > 0) {
 		return wi, 0, RGB{}, false
 	}
-	f, pdf := evalPDF(&d, &f0, alpha, ps, wo, wi)
+	var gm geometry
+	gm.set(alpha*alpha, wo, wi)
+	pdf = gm.pdf(alpha*alpha, ps, wo, wi)
 	if !(pdf > 0) {
 		return wi, 0, RGB{}, false
 	}
 	k := wi.Z / pdf
-	return wi, pdf, RGB{f[0] * k, f[1] * k, f[2] * k}, true
+	return wi, pdf, RGB{gm.channel(d0, s0) * k, gm.channel(d1, s1) * k, gm.channel(d2, s2) * k}, true
 }
 
 // PDF returns the density in 1/sr with which Sample draws wi given wo:
@@ -53,15 +66,16 @@ func PDF(p *Params, wo, wi Vec) float64 {
 	if !(muO > 0 && muI > 0) {
 		return 0
 	}
-	d, f0 := p.effective()
-	ps := specularProbability(&d, &f0, muO)
-	alpha := p.Alpha()
-	a2 := alpha * alpha
-	muH := halfCos(wo, wi)
-	t := muH*muH*(a2-1) + 1
-	dist := a2 / (math.Pi * t * t)
+	d0, d1, d2, s0, s1, s2 := p.coeffs()
+	ps := specularProbability(d0, d1, d2, s0, s1, s2, muO)
+	a2 := p.alpha2()
+	// D as in geometry.set: alpha^2 |H|^4 / (pi q^2), H = wo + wi.
+	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
+	hxy := float64(hx*hx) + float64(hy*hy)
+	l2 := hxy + hz*hz
+	q := hxy + a2*(hz*hz)
 	so := math.Sqrt(float64(muO*muO*(1-a2)) + a2)
-	return ps*dist/(2*(muO+so)) + (1-ps)*muI*(1/math.Pi)
+	return ps*a2*l2*l2/(2*math.Pi*q*q*(muO+so)) + (1-ps)*muI*(1/math.Pi)
 }
 
 // SpecularProbability returns the probability that Sample picks the
@@ -74,18 +88,15 @@ func SpecularProbability(p *Params, wo Vec) float64 {
 	if !(wo.Z > 0) {
 		return 0
 	}
-	d, f0 := p.effective()
-	return specularProbability(&d, &f0, wo.Z)
+	d0, d1, d2, s0, s1, s2 := p.coeffs()
+	return specularProbability(d0, d1, d2, s0, s1, s2, wo.Z)
 }
 
-func specularProbability(d, f0 *RGB, muO float64) float64 {
-	w := pow5(1 - clamp01(muO))
-	var ws, wd float64
-	for c := 0; c < 3; c++ {
-		one := 1 - f0[c]
-		ws += f0[c] + one*w
-		wd += d[c] * one * one * (1 - w)
-	}
+func specularProbability(d0, d1, d2, s0, s1, s2, muO float64) float64 {
+	w := pow5(1 - unit(muO))
+	o0, o1, o2 := 1-s0, 1-s1, 1-s2
+	ws := s0 + s1 + s2 + (o0+o1+o2)*w
+	wd := (d0*o0*o0 + d1*o1*o1 + d2*o2*o2) * (1 - w)
 	if !(wd > 0) {
 		return 1
 	}
@@ -93,45 +104,57 @@ func specularProbability(d, f0 *RGB, muO float64) float64 {
 		return 0.05
 	}
 	ps := ws / (ws + wd)
-	return math.Min(math.Max(ps, 0.05), 0.95)
+	if !(ps > 0.05) {
+		ps = 0.05
+	} else if ps > 0.95 {
+		ps = 0.95
+	}
+	return ps
 }
 
-// evalPDF returns Eval and PDF together, sharing the half-vector work.
-func evalPDF(d, f0 *RGB, alpha, ps float64, wo, wi Vec) (RGB, float64) {
-	a2 := alpha * alpha
-	var gm geometry
-	gm.set(a2, wo, wi)
-	var f RGB
-	for c := 0; c < 3; c++ {
-		one := 1 - f0[c]
-		f[c] = d[c]*one*one*gm.kd + (f0[c]+one*gm.w)*gm.dv
-	}
-	dist := a2 / (math.Pi * gm.t * gm.t)
-	pdf := ps*dist/(2*(wo.Z+gm.so)) + (1-ps)*wi.Z*(1/math.Pi)
-	return f, pdf
+// pdf returns PDF from the geometry of the same pair of directions.
+func (g *geometry) pdf(a2, ps float64, wo, wi Vec) float64 {
+	l2 := g.l2
+	return ps*a2*l2*l2/(2*math.Pi*g.q*g.q*(wo.Z+g.so)) + (1-ps)*wi.Z*(1/math.Pi)
 }
 
 // sampleVisibleNormal returns a microfacet normal distributed as the GGX
-// distribution of normals visible from wo (Heitz 2018, listing 1).
+// distribution of normals visible from wo (Heitz 2018, listing 1), not
+// normalised (callers divide by its squared length).
 func sampleVisibleNormal(alpha float64, wo Vec, u1, u2 float64) Vec {
 	// Stretch the view into the configuration of the hemisphere (alpha 1).
-	vh := Vec{alpha * wo.X, alpha * wo.Y, wo.Z}.Normalize()
-	// Orthonormal basis around vh.
-	lensq := vh.X*vh.X + vh.Y*vh.Y
-	t1 := Vec{1, 0, 0}
-	if lensq > 0 {
-		inv := 1 / math.Sqrt(lensq)
-		t1 = Vec{-vh.Y * inv, vh.X * inv, 0}
+	vx, vy, vz := alpha*wo.X, alpha*wo.Y, wo.Z
+	inv := 1 / math.Sqrt(vx*vx+vy*vy+vz*vz)
+	vx, vy, vz = vx*inv, vy*inv, vz*inv
+	// Orthonormal basis (t1, t2, vh); t1 is perpendicular to the plane of
+	// wo and the normal, which stretching does not change.
+	t1x, t1y := 1.0, 0.0
+	if sxy := wo.X*wo.X + wo.Y*wo.Y; sxy > 0 {
+		k := 1 / math.Sqrt(sxy)
+		t1x, t1y = -wo.Y*k, wo.X*k
 	}
-	t2 := vh.Cross(t1)
+	t2x, t2y, t2z := -vz*t1y, vz*t1x, vx*t1y-vy*t1x // vh x t1
 	// Uniform point on the disk, warped onto the visible half.
 	r := math.Sqrt(u1)
 	s, c := math.Sincos(2 * math.Pi * u2)
 	p1, p2 := r*c, r*s
-	h := 0.5 * (1 + vh.Z)
-	p2 = (1-h)*math.Sqrt(math.Max(0, 1-p1*p1)) + h*p2
-	p3 := math.Sqrt(math.Max(0, 1-p1*p1-p2*p2))
-	nh := t1.Scale(p1).Add(t2.Scale(p2)).Add(vh.Scale(p3))
+	h := 0.5 * (1 + vz)
+	e := 1 - p1*p1
+	if e < 0 {
+		e = 0
+	}
+	p2 = (1-h)*math.Sqrt(e) + h*p2
+	e -= p2 * p2
+	if e < 0 {
+		e = 0
+	}
+	p3 := math.Sqrt(e)
+	nx := p1*t1x + p2*t2x + p3*vx
+	ny := p1*t1y + p2*t2y + p3*vy
+	nz := p2*t2z + p3*vz
+	if nz < 0 {
+		nz = 0
+	}
 	// Unstretch back to the ellipsoid configuration.
-	return Vec{alpha * nh.X, alpha * nh.Y, math.Max(0, nh.Z)}.Normalize()
+	return Vec{alpha * nx, alpha * ny, nz}
 }
