@@ -31,6 +31,9 @@ const (
 	parallelBinning = 1 << 16
 	parallelSubtree = 1 << 12
 	maxBins         = 32
+	// singleAxisBelow is the range size below which only the widest
+	// centroid axis is binned.
+	singleAxisBelow = 1 << 12
 )
 
 // primRef is one triangle during the build: its bounds and index.
@@ -42,8 +45,8 @@ type primRef struct {
 }
 
 type bin struct {
-	lo, hi [3]float32
-	n      int32
+	box32
+	n int32
 }
 
 type binSet [3][maxBins]bin
@@ -52,7 +55,7 @@ func (bs *binSet) reset(nb int) {
 	inf := float32(math.Inf(1))
 	for a := range bs {
 		for k := 0; k < nb && k < maxBins; k++ {
-			bs[a][k] = bin{lo: [3]float32{inf, inf, inf}, hi: [3]float32{-inf, -inf, -inf}}
+			bs[a][k] = bin{box32: box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}}
 		}
 	}
 }
@@ -65,13 +68,13 @@ func emptyBox32() box32 {
 	return box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}
 }
 
-func (b *box32) extendBox(lo, hi *[3]float32) {
-	b.lo[0] = min(b.lo[0], lo[0])
-	b.lo[1] = min(b.lo[1], lo[1])
-	b.lo[2] = min(b.lo[2], lo[2])
-	b.hi[0] = max(b.hi[0], hi[0])
-	b.hi[1] = max(b.hi[1], hi[1])
-	b.hi[2] = max(b.hi[2], hi[2])
+func (b *box32) extendBox(lo, hi *[3]float32) { *b = union32(*b, box32{*lo, *hi}) }
+
+func union32(a, b box32) box32 {
+	return box32{
+		[3]float32{min(a.lo[0], b.lo[0]), min(a.lo[1], b.lo[1]), min(a.lo[2], b.lo[2])},
+		[3]float32{max(a.hi[0], b.hi[0]), max(a.hi[1], b.hi[1]), max(a.hi[2], b.hi[2])},
+	}
 }
 
 func (b *box32) extendPoint(x, y, z float32) {
@@ -123,30 +126,85 @@ func (m *binMap) bin(c float32, a int) int32 {
 	return k
 }
 
-// binRefs adds refs to bs (which must have been reset).
+// binRefs adds refs to bs (which must have been reset). The bin update is
+// written out by hand: the compiler does not inline a helper this size.
 func binRefs(refs []primRef, m *binMap, bs *binSet) {
 	lx, ly, lz := m.lo[0], m.lo[1], m.lo[2]
 	sx, sy, sz := m.scale[0], m.scale[1], m.scale[2]
 	last := m.nb - 1
 	for i := range refs {
 		r := &refs[i]
-		kx := min(max(int32((r.lo[0]+r.hi[0]-lx)*sx), 0), last)
-		ky := min(max(int32((r.lo[1]+r.hi[1]-ly)*sy), 0), last)
-		kz := min(max(int32((r.lo[2]+r.hi[2]-lz)*sz), 0), last)
-		addBin(&bs[0][kx&(maxBins-1)], r)
-		addBin(&bs[1][ky&(maxBins-1)], r)
-		addBin(&bs[2][kz&(maxBins-1)], r)
+		l0, l1, l2, h0, h1, h2 := r.lo[0], r.lo[1], r.lo[2], r.hi[0], r.hi[1], r.hi[2]
+		kx := min(max(int32((l0+h0-lx)*sx), 0), last)
+		ky := min(max(int32((l1+h1-ly)*sy), 0), last)
+		kz := min(max(int32((l2+h2-lz)*sz), 0), last)
+		b := &bs[0][kx&(maxBins-1)]
+		b.n++
+		b.lo[0], b.lo[1], b.lo[2] = min(b.lo[0], l0), min(b.lo[1], l1), min(b.lo[2], l2)
+		b.hi[0], b.hi[1], b.hi[2] = max(b.hi[0], h0), max(b.hi[1], h1), max(b.hi[2], h2)
+		b = &bs[1][ky&(maxBins-1)]
+		b.n++
+		b.lo[0], b.lo[1], b.lo[2] = min(b.lo[0], l0), min(b.lo[1], l1), min(b.lo[2], l2)
+		b.hi[0], b.hi[1], b.hi[2] = max(b.hi[0], h0), max(b.hi[1], h1), max(b.hi[2], h2)
+		b = &bs[2][kz&(maxBins-1)]
+		b.n++
+		b.lo[0], b.lo[1], b.lo[2] = min(b.lo[0], l0), min(b.lo[1], l1), min(b.lo[2], l2)
+		b.hi[0], b.hi[1], b.hi[2] = max(b.hi[0], h0), max(b.hi[1], h1), max(b.hi[2], h2)
 	}
 }
 
-func addBin(b *bin, r *primRef) {
-	b.n++
-	b.lo[0] = min(b.lo[0], r.lo[0])
-	b.lo[1] = min(b.lo[1], r.lo[1])
-	b.lo[2] = min(b.lo[2], r.lo[2])
-	b.hi[0] = max(b.hi[0], r.hi[0])
-	b.hi[1] = max(b.hi[1], r.hi[1])
-	b.hi[2] = max(b.hi[2], r.hi[2])
+// buildScratch is the per-goroutine working memory of the build.
+type buildScratch struct {
+	bins   binSet
+	rArea  [maxBins]float64
+	rCount [maxBins]int32
+}
+
+func (bd *builder) tryAcquire() bool {
+	select {
+	case bd.sem <- struct{}{}:
+		return true
+	default:
+		return false
+	}
+}
+
+// buildPair builds the left child on a new goroutine (the semaphore slot
+// is already held) and the right one on this one.
+func (bd *builder) buildPair(lo, mid, hi int, lcb, rcb box32, base, depth int, sc *buildScratch) (l, lc int32, ls subtreeStats, r, rc int32, rs subtreeStats) {
+	type result struct {
+		ref, count int32
+		st         subtreeStats
+	}
+	res := new(result)
+	done := make(chan struct{})
+	go func() {
+		res.ref, res.count, res.st = bd.build(lo, mid, lcb, base+1, depth+1, new(buildScratch))
+		<-bd.sem
+		close(done)
+	}()
+	r, rc, rs = bd.build(mid, hi, rcb, base+(mid-lo), depth+1, sc)
+	<-done
+	return res.ref, res.count, res.st, r, rc, rs
+}
+
+// binRefsAxis bins refs along one axis into bins (which must have been reset).
+func binRefsAxis(refs []primRef, m *binMap, a int, bins *[maxBins]bin) {
+	a &= 3
+	if a > 2 {
+		return
+	}
+	la, sa := m.lo[a], m.scale[a]
+	last := m.nb - 1
+	for i := range refs {
+		r := &refs[i]
+		l0, l1, l2, h0, h1, h2 := r.lo[0], r.lo[1], r.lo[2], r.hi[0], r.hi[1], r.hi[2]
+		k := min(max(int32((r.lo[a]+r.hi[a]-la)*sa), 0), last)
+		b := &bins[k&(maxBins-1)]
+		b.n++
+		b.lo[0], b.lo[1], b.lo[2] = min(b.lo[0], l0), min(b.lo[1], l1), min(b.lo[2], l2)
+		b.hi[0], b.hi[1], b.hi[2] = max(b.hi[0], h0), max(b.hi[1], h1), max(b.hi[2], h2)
+	}
 }
 
 type builder struct {
@@ -170,7 +228,7 @@ func (s *subtreeStats) add(o subtreeStats) {
 // build builds refs[lo:hi] (bounds b, doubled-centroid bounds cb). It returns
 // the child reference for the parent: an inner node index (stored at base)
 // or a leaf (^lo, with count hi-lo).
-func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, count int32, st subtreeStats) {
+func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScratch) (ref int32, count int32, st subtreeStats) {
 	n := hi - lo
 	st.depth = depth
 	if n <= 1 {
@@ -182,18 +240,40 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 	mid := -1
 	var lbox, rbox, lcb, rcb box32
 	if depth < medianDepth {
-		nb := 8
-		if n >= 1024 {
+		nb := 4
+		switch {
+		case n >= 1024:
 			nb = 32
-		} else if n >= 128 {
+		case n >= 128:
 			nb = 16
+		case n >= 16:
+			nb = 8
 		}
 		m := newBinMap(cb, nb)
-		var bs binSet
-		bd.binParallel(refs, &m, nb, &bs)
+		bs := &sc.bins
+		if n < singleAxisBelow {
+			// Small ranges bin along the widest centroid axis only: most of
+			// the build's nodes are small, and the other axes rarely win there.
+			a := 0
+			if m.scale[1] != 0 && (m.scale[0] == 0 || cb.hi[1]-cb.lo[1] > cb.hi[0]-cb.lo[0]) {
+				a = 1
+			}
+			if m.scale[2] != 0 && (m.scale[a] == 0 || cb.hi[2]-cb.lo[2] > cb.hi[a]-cb.lo[a]) {
+				a = 2
+			}
+			for k := 0; k < 3; k++ {
+				if k != a {
+					m.scale[k] = 0
+				}
+			}
+			bs.reset(nb)
+			binRefsAxis(refs, &m, a, &bs[a])
+		} else {
+			bd.binParallel(refs, m, nb, bs)
+		}
 		// SAH sweep (Wald 2007, section 3).
-		var rArea [maxBins]float64
-		var rCount [maxBins]int32
+		rArea := &sc.rArea
+		rCount := &sc.rCount
 		bestCost := math.Inf(1)
 		bestAxis, bestSplit := -1, 0
 		for a := 0; a < 3; a++ {
@@ -204,7 +284,7 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 			cnt := int32(0)
 			for k := nb - 1; k > 0; k-- {
 				bk := &bs[a][k]
-				acc.extendBox(&bk.lo, &bk.hi)
+				acc = union32(acc, bk.box32)
 				cnt += bk.n
 				rArea[k] = acc.area()
 				rCount[k] = cnt
@@ -213,7 +293,7 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 			cnt = 0
 			for k := 1; k < nb; k++ {
 				bk := &bs[a][k-1]
-				acc.extendBox(&bk.lo, &bk.hi)
+				acc = union32(acc, bk.box32)
 				cnt += bk.n
 				if cnt == 0 || rCount[k] == 0 {
 					continue
@@ -224,8 +304,10 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 				}
 			}
 		}
-		for k := 0; k < nb; k++ {
-			nodeBox.extendBox(&bs[0][k].lo, &bs[0][k].hi)
+		if bestAxis >= 0 {
+			for k := 0; k < nb; k++ {
+				nodeBox = union32(nodeBox, bs[bestAxis][k].box32)
+			}
 		}
 		if bestAxis >= 0 {
 			area := nodeBox.area()
@@ -242,10 +324,10 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 			mid += lo
 			lbox, rbox = emptyBox32(), emptyBox32()
 			for k := 0; k < bestSplit; k++ {
-				lbox.extendBox(&bs[bestAxis][k].lo, &bs[bestAxis][k].hi)
+				lbox = union32(lbox, bs[bestAxis][k].box32)
 			}
 			for k := bestSplit; k < nb; k++ {
-				rbox.extendBox(&bs[bestAxis][k].lo, &bs[bestAxis][k].hi)
+				rbox = union32(rbox, bs[bestAxis][k].box32)
 			}
 		} else if n <= maxLeafSize {
 			st.leaves = 1
@@ -259,10 +341,10 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 		for i := range refs {
 			r := &refs[i]
 			if i < n/2 {
-				lbox.extendBox(&r.lo, &r.hi)
+				lbox = union32(lbox, box32{r.lo, r.hi})
 				lcb.extendPoint(r.lo[0]+r.hi[0], r.lo[1]+r.hi[1], r.lo[2]+r.hi[2])
 			} else {
-				rbox.extendBox(&r.lo, &r.hi)
+				rbox = union32(rbox, box32{r.lo, r.hi})
 				rcb.extendPoint(r.lo[0]+r.hi[0], r.lo[1]+r.hi[1], r.lo[2]+r.hi[2])
 			}
 		}
@@ -270,28 +352,13 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 	// Inner node at base; the left subtree's inner nodes fit in
 	// [base+1, base+(mid-lo)), the right one's in [base+(mid-lo), base+n-1).
 	st.inner = 1
-	var l, r int32
-	var lc, rc int32
+	var l, r, lc, rc int32
 	var ls, rs subtreeStats
-	if mid-lo >= parallelSubtree && hi-mid >= parallelSubtree && bd.sem != nil {
-		select {
-		case bd.sem <- struct{}{}:
-			var wg sync.WaitGroup
-			wg.Add(1)
-			go func() {
-				l, lc, ls = bd.build(lo, mid, lcb, base+1, depth+1)
-				<-bd.sem
-				wg.Done()
-			}()
-			r, rc, rs = bd.build(mid, hi, rcb, base+(mid-lo), depth+1)
-			wg.Wait()
-		default:
-			l, lc, ls = bd.build(lo, mid, lcb, base+1, depth+1)
-			r, rc, rs = bd.build(mid, hi, rcb, base+(mid-lo), depth+1)
-		}
+	if mid-lo >= parallelSubtree && hi-mid >= parallelSubtree && bd.sem != nil && bd.tryAcquire() {
+		l, lc, ls, r, rc, rs = bd.buildPair(lo, mid, hi, lcb, rcb, base, depth, sc)
 	} else {
-		l, lc, ls = bd.build(lo, mid, lcb, base+1, depth+1)
-		r, rc, rs = bd.build(mid, hi, rcb, base+(mid-lo), depth+1)
+		l, lc, ls = bd.build(lo, mid, lcb, base+1, depth+1, sc)
+		r, rc, rs = bd.build(mid, hi, rcb, base+(mid-lo), depth+1, sc)
 	}
 	st.add(ls)
 	st.add(rs)
@@ -302,14 +369,19 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int) (ref int32, 
 }
 
 // binParallel bins refs, over several goroutines when the range is large.
-func (bd *builder) binParallel(refs []primRef, m *binMap, nb int, bs *binSet) {
+func (bd *builder) binParallel(refs []primRef, m binMap, nb int, bs *binSet) {
 	bs.reset(nb)
-	parts := bd.threads
-	if len(refs) < parallelBinning || parts <= 1 {
-		binRefs(refs, m, bs)
+	if len(refs) < parallelBinning || bd.threads <= 1 {
+		binRefs(refs, &m, bs)
 		return
 	}
-	sets := make([]binSet, parts)
+	bd.binLarge(refs, m, nb, bs)
+}
+
+// binLarge bins a large range in parallel chunks and merges the bins.
+func (bd *builder) binLarge(refs []primRef, m binMap, nb int, bs *binSet) {
+	parts := bd.threads
+	sets := make([]binSet, parts) // large ranges only: a few allocations per build
 	var wg sync.WaitGroup
 	for p := 0; p < parts; p++ {
 		lo, hi := len(refs)*p/parts, len(refs)*(p+1)/parts
@@ -317,7 +389,8 @@ func (bd *builder) binParallel(refs []primRef, m *binMap, nb int, bs *binSet) {
 		go func() {
 			defer wg.Done()
 			sets[p].reset(nb)
-			binRefs(refs[lo:hi], m, &sets[p])
+			mm := m
+			binRefs(refs[lo:hi], &mm, &sets[p])
 		}()
 	}
 	wg.Wait()
@@ -361,7 +434,19 @@ func partition(refs []primRef, m *binMap, axis int, split int32) (int, box32, bo
 	return i, lcb, rcb
 }
 
+// setChild stores a child's box rounded outwards by one float32 step. The
+// padding matters for rays with a direction component exactly zero: their
+// reciprocal is clamped to +-1e30, so an origin exactly on a far plane would
+// give a far distance of 0 instead of +Inf; after padding an origin on a
+// vertex's coordinate is strictly inside the slab.
 func (nd *bvhNode) setChild(c int, b box32, ref, count int32) {
+	if b.lo[0] <= b.hi[0] {
+		up, down := float32(math.Inf(1)), float32(math.Inf(-1))
+		for a := 0; a < 3; a++ {
+			b.lo[a] = math.Nextafter32(b.lo[a], down)
+			b.hi[a] = math.Nextafter32(b.hi[a], up)
+		}
+	}
 	o := 6 * (c & 1)
 	nd.box[o+0], nd.box[o+1], nd.box[o+2] = b.lo[0], b.lo[1], b.lo[2]
 	nd.box[o+3], nd.box[o+4], nd.box[o+5] = b.hi[0], b.hi[1], b.hi[2]

@@ -1,8 +1,15 @@
 package render
 
 import (
+	"encoding/json"
 	"math"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"patina/render/refcheck"
 )
 
 // displacedSphere builds the mesh of the Embree side-by-side harness
@@ -66,6 +73,77 @@ func displacedSphere(n int) *Mesh {
 	return m
 }
 
+// cubeMesh is the closed cube [-1,1]^3 as 12 triangles wound outwards.
+func cubeMesh() *Mesh {
+	m := &Mesh{}
+	for i := 0; i < 8; i++ {
+		m.Positions = append(m.Positions, float32(2*(i&1)-1), float32(2*(i>>1&1)-1), float32(2*(i>>2&1)-1))
+	}
+	quads := [][4]uint32{{0, 2, 3, 1}, {4, 5, 7, 6}, {0, 1, 5, 4}, {2, 6, 7, 3}, {0, 4, 6, 2}, {1, 3, 7, 5}}
+	for _, q := range quads {
+		m.Indices = append(m.Indices, q[0], q[1], q[2], q[0], q[2], q[3])
+	}
+	m.Segments = make([]int32, 12)
+	return m
+}
+
+// triangleSoup is n random triangles of mixed sizes in [-1,1]^3, with some
+// sliver and zero-area triangles, overlapping freely.
+func triangleSoup(n int, seed uint64) *Mesh {
+	rng := rand.New(rand.NewPCG(seed, 7))
+	m := &Mesh{}
+	for t := 0; t < n; t++ {
+		c := [3]float64{2*rng.Float64() - 1, 2*rng.Float64() - 1, 2*rng.Float64() - 1}
+		size := math.Pow(10, -3*rng.Float64())
+		for v := 0; v < 3; v++ {
+			for k := 0; k < 3; k++ {
+				p := c[k] + size*(2*rng.Float64()-1)
+				if t%17 == 0 && v == 2 { // zero-area: vertex 2 repeats vertex 1
+					p = float64(m.Positions[len(m.Positions)-3])
+				}
+				m.Positions = append(m.Positions, float32(p))
+			}
+			m.Indices = append(m.Indices, uint32(3*t+v))
+		}
+	}
+	m.Segments = make([]int32, n)
+	return m
+}
+
+// bunnyMesh loads the Stanford bunny from the npm package bunny (positions
+// and cells as JavaScript arrays), installed by `make deps`.
+func bunnyMesh(t testing.TB) *Mesh {
+	t.Helper()
+	dir := refcheck.NodeModule(t, "bunny")
+	src, err := os.ReadFile(filepath.Join(dir, "index.js"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := string(src)
+	i, j := strings.Index(text, "exports.positions="), strings.Index(text, "exports.cells=")
+	if i < 0 || j < 0 {
+		t.Fatal("bunny/index.js: exports.positions or exports.cells not found")
+	}
+	trim := func(s string) string { return strings.TrimRight(strings.TrimSpace(s), ";") }
+	var pos [][3]float64
+	var cells [][3]uint32
+	if err := json.Unmarshal([]byte(trim(text[i+len("exports.positions="):j])), &pos); err != nil {
+		t.Fatal("bunny positions: ", err)
+	}
+	if err := json.Unmarshal([]byte(trim(text[j+len("exports.cells="):])), &cells); err != nil {
+		t.Fatal("bunny cells: ", err)
+	}
+	m := &Mesh{}
+	for _, p := range pos {
+		m.Positions = append(m.Positions, float32(p[0]), float32(p[1]), float32(p[2]))
+	}
+	for _, c := range cells {
+		m.Indices = append(m.Indices, c[0], c[1], c[2])
+	}
+	m.Segments = make([]int32, len(cells))
+	return m
+}
+
 // bruteIntersect tests every triangle with the same watertight test.
 func bruteIntersect(s *Scene, r Ray, tmax float64) (t float64, tri int32, ok bool) {
 	var q rayQuery
@@ -83,9 +161,40 @@ func bruteIntersect(s *Scene, r Ray, tmax float64) (t float64, tri int32, ok boo
 	return q.tmax, s.triID[q.hitIndex], true
 }
 
+// mollerTrumbore is an independent ray-triangle test in float64: Möller and
+// Trumbore, "Fast, minimum storage ray-triangle intersection", Journal of
+// Graphics Tools 2(1), 1997. It returns t and the barycentrics of vertices
+// 1 and 2.
+func mollerTrumbore(r Ray, p0, p1, p2 Vec3) (t, b1, b2 float64, ok bool) {
+	e1, e2 := p1.Sub(p0), p2.Sub(p0)
+	pv := r.D.Cross(e2)
+	det := e1.Dot(pv)
+	if det == 0 {
+		return 0, 0, 0, false
+	}
+	inv := 1 / det
+	tv := r.O.Sub(p0)
+	b1 = tv.Dot(pv) * inv
+	if b1 < 0 || b1 > 1 {
+		return 0, 0, 0, false
+	}
+	qv := tv.Cross(e1)
+	b2 = r.D.Dot(qv) * inv
+	if b2 < 0 || b1+b2 > 1 {
+		return 0, 0, 0, false
+	}
+	return e2.Dot(qv) * inv, b1, b2, true
+}
+
 func randomDir(rng *rand.Rand) Vec3 {
 	z := 1 - 2*rng.Float64()
 	ph := 2 * math.Pi * rng.Float64()
 	s := math.Sqrt(math.Max(0, 1-z*z))
 	return Vec3{s * math.Cos(ph), s * math.Sin(ph), z}
+}
+
+func meshVertex(m *Mesh, i uint32) Vec3 { return vertex64(m.Positions, i) }
+
+func triVertices(m *Mesh, t int) (Vec3, Vec3, Vec3) {
+	return meshVertex(m, m.Indices[3*t]), meshVertex(m, m.Indices[3*t+1]), meshVertex(m, m.Indices[3*t+2])
 }

@@ -79,14 +79,14 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 	nt := m.NumTriangles()
 	s := &Scene{mesh: m}
 	refs := make([]primRef, nt)
-	cb := parallelRefs(m, refs, threads)
+	cb, all := parallelRefs(m, refs, threads)
 	bd := &builder{refs: refs, threads: threads}
 	if threads > 1 {
 		bd.sem = make(chan struct{}, threads-1)
 	}
 	nslots := max(nt, 1)
 	bd.nodes = make([]bvhNode, nslots)
-	ref, cnt, st := bd.build(0, nt, cb, 0, 0)
+	ref, cnt, st := bd.build(0, nt, cb, 0, 0, new(buildScratch))
 	if ref < 0 {
 		// The whole mesh is one leaf (or empty): wrap it in a root whose
 		// second child is an empty box that no ray can enter.
@@ -117,14 +117,10 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 		}
 	})
 	s.bounds = EmptyAABB()
-	root := &s.nodes[0]
-	for c := 0; c < 2; c++ {
-		if root.box[6*c] <= root.box[6*c+3] {
-			o := 6 * c
-			s.bounds = s.bounds.Union(AABB{
-				Vec3{float64(root.box[o]), float64(root.box[o+1]), float64(root.box[o+2])},
-				Vec3{float64(root.box[o+3]), float64(root.box[o+4]), float64(root.box[o+5])},
-			})
+	if nt > 0 {
+		s.bounds = AABB{
+			Vec3{float64(all.lo[0]), float64(all.lo[1]), float64(all.lo[2])},
+			Vec3{float64(all.hi[0]), float64(all.hi[1]), float64(all.hi[2])},
 		}
 	}
 	s.stats = BuildStats{
@@ -177,17 +173,18 @@ func checkSceneMesh(m *Mesh) error {
 }
 
 // parallelRefs fills one build reference per triangle and returns the
-// bounds of their doubled centroids.
-func parallelRefs(m *Mesh, refs []primRef, threads int) box32 {
+// bounds of their doubled centroids and of the triangles.
+func parallelRefs(m *Mesh, refs []primRef, threads int) (box32, box32) {
 	parts := max(1, min(threads, len(refs)/4096))
 	boxes := make([]box32, parts)
+	bounds := make([]box32, parts)
 	var wg sync.WaitGroup
 	for p := 0; p < parts; p++ {
 		lo, hi := len(refs)*p/parts, len(refs)*(p+1)/parts
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			cb := emptyBox32()
+			cb, bb := emptyBox32(), emptyBox32()
 			pos, idx := m.Positions, m.Indices
 			for t := lo; t < hi; t++ {
 				ix := idx[3*t : 3*t+3 : 3*t+3]
@@ -199,16 +196,18 @@ func parallelRefs(m *Mesh, refs []primRef, threads int) box32 {
 				r.lo = [3]float32{min(a[0], b[0], c[0]), min(a[1], b[1], c[1]), min(a[2], b[2], c[2])}
 				r.hi = [3]float32{max(a[0], b[0], c[0]), max(a[1], b[1], c[1]), max(a[2], b[2], c[2])}
 				cb.extendPoint(r.lo[0]+r.hi[0], r.lo[1]+r.hi[1], r.lo[2]+r.hi[2])
+				bb = union32(bb, box32{r.lo, r.hi})
 			}
-			boxes[p] = cb
+			boxes[p], bounds[p] = cb, bb
 		}()
 	}
 	wg.Wait()
-	cb := emptyBox32()
+	cb, bb := emptyBox32(), emptyBox32()
 	for i := range boxes {
-		cb.extendBox(&boxes[i].lo, &boxes[i].hi)
+		cb = union32(cb, boxes[i])
+		bb = union32(bb, bounds[i])
 	}
-	return cb
+	return cb, bb
 }
 
 // compactNodes renumbers the used nodes in depth-first order (left child
