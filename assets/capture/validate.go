@@ -224,7 +224,7 @@ func (v *validator) mesh() {
 		return
 	}
 	path := c.Resolve(c.Mesh)
-	if !v.regularFile("mesh", path, "mesh") {
+	if !v.regularFile("mesh", c.Mesh, "mesh") {
 		v.sum.Segments = c.Segments
 		return
 	}
@@ -295,20 +295,21 @@ func describeLabel(l render.SegmentLabel) string {
 	return fmt.Sprintf("%q", l.Name)
 }
 
-// regularFile checks that a file named at path exists and is a regular
-// file (not a directory or a device that would never end).
-func (v *validator) regularFile(jsonPath, file, what string) bool {
+// regularFile checks that the file named rel in the capture exists and is
+// a regular file (not a directory or a device that would never end).
+func (v *validator) regularFile(jsonPath, rel, what string) bool {
+	file := v.c.Resolve(rel)
 	st, err := os.Stat(file)
 	if err != nil {
 		if os.IsNotExist(err) {
-			v.errf(jsonPath, "%s file %s does not exist", what, file)
+			v.errf(jsonPath, "%s file %q does not exist (looked for %s)", what, rel, file)
 		} else {
-			v.errf(jsonPath, "%s file: %v", what, err)
+			v.errf(jsonPath, "%s file %q: %v", what, rel, err)
 		}
 		return false
 	}
 	if !st.Mode().IsRegular() {
-		v.errf(jsonPath, "%s file %s is not a regular file", what, file)
+		v.errf(jsonPath, "%s file %q is not a regular file (%s)", what, rel, file)
 		return false
 	}
 	return true
@@ -421,7 +422,7 @@ func (v *validator) lights() []bool {
 				case !finite(c):
 					v.errf(fmt.Sprintf("%s.%s[%d]", p, name, k), "%s is not finite", name)
 				case nonNegative && c < 0:
-					v.errf(fmt.Sprintf("%s.%s[%d]", p, name, k), "%s %v is negative; light %ss are non-negative", name, c, name)
+					v.errf(fmt.Sprintf("%s.%s[%d]", p, name, k), "%s %v is negative; light %s must be non-negative", name, c, name)
 				}
 			}
 		}
@@ -559,7 +560,7 @@ func (v *validator) photos(camUsed, lightUsed []bool) {
 
 func (v *validator) photoFile(p string, ph *Photo, cam *Camera) {
 	path := v.c.Resolve(ph.File)
-	if v.regularFile(p+".file", path, "photo") {
+	if v.regularFile(p+".file", ph.File, "photo") {
 		info, err := photo.Inspect(path)
 		switch {
 		case err != nil:
@@ -583,7 +584,7 @@ func (v *validator) photoFile(p string, ph *Photo, cam *Camera) {
 		return
 	}
 	mpath := v.c.Resolve(ph.Mask)
-	if !v.regularFile(p+".mask", mpath, "mask") {
+	if !v.regularFile(p+".mask", ph.Mask, "mask") {
 		return
 	}
 	info, err := photo.Inspect(mpath)

@@ -157,7 +157,7 @@ type LimitError struct {
 }
 
 func (e *LimitError) Error() string {
-	return fmt.Sprintf("%s: the header declares %dx%d pixels, beyond Patina's limit of %d pixels and %d per side", e.File, e.Width, e.Height, MaxPixels, MaxDimension)
+	return fmt.Sprintf("%s: the image header declares %dx%d pixels, beyond Patina's limit of %d pixels and %d per side", e.File, e.Width, e.Height, MaxPixels, MaxDimension)
 }
 
 // Info is what a photo's header says.
@@ -228,6 +228,9 @@ func decodeConfig(f *os.File, path, format string) (image.Config, error) {
 		cfg, err = tiff.DecodeConfig(f)
 	}
 	if err != nil {
+		if place := diagnose(f, format); place != "" {
+			return cfg, &FormatError{File: path, Msg: place, Err: err}
+		}
 		return cfg, decodeError(path, format, err)
 	}
 	if cfg.Width <= 0 || cfg.Height <= 0 {
@@ -328,43 +331,12 @@ func decode(path string) (image.Image, error) {
 		img, err = tiff.Decode(f) // reads through io.ReaderAt, not all at once
 	}
 	if err != nil {
-		if truncated(f, format) {
-			return nil, &FormatError{File: path, Msg: "truncated " + formatName(format) + " file (it does not end with the " + endMarker[format].name + ")", Err: err}
+		if place := diagnose(f, format); place != "" {
+			return nil, &FormatError{File: path, Msg: place, Err: err}
 		}
 		return nil, decodeError(path, format, err)
 	}
 	return img, nil
-}
-
-// endMarker is what a complete file of each format ends with.
-var endMarker = map[string]struct {
-	name  string
-	bytes string
-}{
-	"png":  {"IEND chunk", "\x00\x00\x00\x00IEND\xaeB`\x82"},
-	"jpeg": {"end-of-image marker FF D9", "\xff\xd9"},
-}
-
-// truncated reports whether a file that failed to decode lacks its format's
-// end marker, which makes "the file was cut short" the likely cause.
-func truncated(f *os.File, format string) bool {
-	m, ok := endMarker[format]
-	if !ok {
-		return false
-	}
-	st, err := f.Stat()
-	if err != nil {
-		return false
-	}
-	n := int64(len(m.bytes))
-	if st.Size() < n {
-		return true
-	}
-	tail := make([]byte, n)
-	if _, err := f.ReadAt(tail, st.Size()-n); err != nil {
-		return false
-	}
-	return string(tail) != m.bytes
 }
 
 // Load decodes the photo at path into linear RGB with its saturation mask.
