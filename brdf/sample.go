@@ -35,7 +35,7 @@ func Sample(p *Params, wo Vec, u [3]float64) (wi Vec, pdf float64, weight RGB, o
 	} else {
 		// Cosine-weighted hemisphere (Malley's method).
 		r := math.Sqrt(u[1])
-		s, c := math.Sincos(2 * math.Pi * u[2])
+		s, c := sincos2pi(u[2])
 		z := 1 - u[1]
 		if z < 0 {
 			z = 0
@@ -124,19 +124,26 @@ func (g *geometry) pdf(a2, ps float64, wo, wi Vec) float64 {
 func sampleVisibleNormal(alpha float64, wo Vec, u1, u2 float64) Vec {
 	// Stretch the view into the configuration of the hemisphere (alpha 1).
 	vx, vy, vz := alpha*wo.X, alpha*wo.Y, wo.Z
-	inv := 1 / math.Sqrt(vx*vx+vy*vy+vz*vz)
-	vx, vy, vz = vx*inv, vy*inv, vz*inv
 	// Orthonormal basis (t1, t2, vh); t1 is perpendicular to the plane of
-	// wo and the normal, which stretching does not change.
+	// wo and the normal, which stretching does not change. One division
+	// serves both normalisations.
 	t1x, t1y := 1.0, 0.0
-	if sxy := wo.X*wo.X + wo.Y*wo.Y; sxy > 0 {
-		k := 1 / math.Sqrt(sxy)
+	sxy := wo.X*wo.X + wo.Y*wo.Y
+	sl := math.Sqrt(vx*vx + vy*vy + vz*vz)
+	if sxy > 0 {
+		sq := math.Sqrt(sxy)
+		inv := 1 / (sq * sl)
+		k := sl * inv // 1 / sqrt(sxy)
 		t1x, t1y = -wo.Y*k, wo.X*k
+		sl = sq * inv // now 1 / |v|
+	} else {
+		sl = 1 / sl
 	}
+	vx, vy, vz = vx*sl, vy*sl, vz*sl
 	t2x, t2y, t2z := -vz*t1y, vz*t1x, vx*t1y-vy*t1x // vh x t1
 	// Uniform point on the disk, warped onto the visible half.
 	r := math.Sqrt(u1)
-	s, c := math.Sincos(2 * math.Pi * u2)
+	s, c := sincos2pi(u2)
 	p1, p2 := r*c, r*s
 	h := 0.5 * (1 + vz)
 	e := 1 - p1*p1
