@@ -2,6 +2,7 @@ package hdr
 
 import (
 	"bytes"
+	"math"
 	"os"
 	"path/filepath"
 	"testing"
@@ -42,11 +43,25 @@ func FuzzDecodeRGBE(f *testing.F) {
 			if m != nil || info != nil {
 				t.Fatal("results beside an error")
 			}
+			// Both paths report the same error.
+			if _, _, err2 := decodeRGBEWith(bytes.NewReader(data), fuzzMaxPixels, false); err2 == nil || err2.Error() != err.Error() {
+				t.Fatalf("fast path: %v\ncareful path: %v", err, err2)
+			}
 			return
 		}
 		if m.Width != info.Width || m.Height != info.Height || m.Width*m.Height > fuzzMaxPixels ||
 			len(m.Pix) != 3*m.Width*m.Height {
 			t.Fatalf("inconsistent image %dx%d, %d floats", m.Width, m.Height, len(m.Pix))
+		}
+		// The careful run-length path agrees with the fast one.
+		slow, _, err := decodeRGBEWith(bytes.NewReader(data), fuzzMaxPixels, false)
+		if err != nil {
+			t.Fatalf("careful path fails where the fast one succeeded: %v", err)
+		}
+		for i := range slow.Pix {
+			if math.Float32bits(slow.Pix[i]) != math.Float32bits(m.Pix[i]) {
+				t.Fatalf("paths disagree at float %d: %v, %v", i, slow.Pix[i], m.Pix[i])
+			}
 		}
 		cfg, err := readRGBEHeader(newByteReader(bytes.NewReader(data)), fuzzMaxPixels)
 		if err != nil || cfg.Width != m.Width || cfg.Height != m.Height {

@@ -248,12 +248,18 @@ func DecodeRGBE(r io.Reader) (*Image, *RGBEInfo, error) {
 }
 
 func decodeRGBE(r io.Reader, limit int) (*Image, *RGBEInfo, error) {
+	return decodeRGBEWith(r, limit, true)
+}
+
+// decodeRGBEWith can turn the fast run-length path off, so tests can check
+// that both paths agree.
+func decodeRGBEWith(r io.Reader, limit int, fast bool) (*Image, *RGBEInfo, error) {
 	b := newByteReader(r)
 	info, err := readRGBEHeader(b, limit)
 	if err != nil {
 		return nil, nil, err
 	}
-	d := rgbeDecoder{b: b, w: info.Width, h: info.Height}
+	d := rgbeDecoder{b: b, w: info.Width, h: info.Height, fast: fast}
 	rle := d.w >= minRLEWidth && d.w <= maxRLEWidth
 	minRow := int64(4 * d.w) // a flat scanline
 	if rle {
@@ -298,6 +304,7 @@ type rgbeDecoder struct {
 	pix  *pixBuffer
 	mul  [3][256]float32 // 2^(e-136) / (exposure * colour correction), 0 for e = 0
 	scan []byte          // four planes of one new-style scanline
+	fast bool            // try rleFast first
 }
 
 func (d *rgbeDecoder) truncated(y int) error {
@@ -321,6 +328,15 @@ func (d *rgbeDecoder) rleScanline(y int) error {
 	p := b.buf[b.pos : b.pos+4]
 	if n := int(p[2])<<8 | int(p[3]); n != w {
 		return &FormatError{"RGBE", 0, y, hdrOff, fmt.Sprintf("run-length scanline header gives width %d, expected %d", n, w)}
+	}
+	// Fast path: when the buffer holds the longest scanline a well-formed
+	// stream can take (every code a literal of at most 128), decode from the
+	// buffer directly. It gives up on anything unusual (zero-length literals
+	// can make a scanline longer, and errors need the careful path) and the
+	// careful path below starts the scanline over.
+	if maxRow := 4 + 4*(w+(w+127)/128); d.fast && maxRow <= readBufSize && b.need(maxRow) && d.rleFast(b.buf[b.pos:b.end]) {
+		d.convertScanline(y)
+		return nil
 	}
 	b.pos += 4
 	for c := 0; c < 4; c++ {
@@ -357,18 +373,66 @@ func (d *rgbeDecoder) rleScanline(y int) error {
 			}
 		}
 	}
+	d.convertScanline(y)
+	return nil
+}
+
+// rleFast decodes the four channel planes of a well-formed new-style
+// scanline from src (which starts at its 4-byte header) and consumes it, or
+// reports false and consumes nothing.
+func (d *rgbeDecoder) rleFast(src []byte) bool {
+	w := d.w
+	k := 4
+	for c := 0; c < 4; c++ {
+		plane := d.scan[c*w : (c+1)*w : (c+1)*w]
+		for j := 0; j < w; {
+			if k+1 >= len(src) {
+				return false
+			}
+			code := int(src[k])
+			k++
+			if code > 128 {
+				n := code & 127
+				if j+n > w {
+					return false
+				}
+				v := src[k]
+				k++
+				run := plane[j : j+n]
+				for i := range run {
+					run[i] = v
+				}
+				j += n
+			} else {
+				n := code
+				if n == 0 || j+n > w || k+n > len(src) {
+					return false
+				}
+				copy(plane[j:j+n], src[k:k+n])
+				k += n
+				j += n
+			}
+		}
+	}
+	d.b.pos += k
+	return true
+}
+
+// convertScanline turns the planes of scanline y into floats.
+func (d *rgbeDecoder) convertScanline(y int) {
+	w := d.w
 	d.pix.extend(3 * (y + 1) * w)
-	out := d.pix.pix[3*y*w : 3*(y+1)*w]
-	rp, gp, bp, ep := d.scan[:w], d.scan[w:2*w], d.scan[2*w:3*w], d.scan[3*w:4*w]
+	ep := d.scan[3*w : 4*w]
+	// Equal lengths let the compiler drop the bounds checks in the loop.
+	rp, gp, bp := d.scan[:len(ep)], d.scan[w:w+len(ep)], d.scan[2*w:2*w+len(ep)]
+	out := d.pix.pix[3*y*w : 3*y*w+3*len(ep)]
 	mr, mg, mb := &d.mul[0], &d.mul[1], &d.mul[2]
-	for x := range ep {
-		e := ep[x]
+	for x, e := range ep {
 		o := out[3*x : 3*x+3 : 3*x+3]
 		o[0] = (float32(rp[x]) + 0.5) * mr[e]
 		o[1] = (float32(gp[x]) + 0.5) * mg[e]
 		o[2] = (float32(bp[x]) + 0.5) * mb[e]
 	}
-	return nil
 }
 
 // flatScanline decodes one scanline of 4-byte pixels, in which a pixel
