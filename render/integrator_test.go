@@ -455,3 +455,41 @@ func TestRenderPassesAndCancel(t *testing.T) {
 		t.Fatal("too few materials accepted")
 	}
 }
+
+// TestSkyLightsHorizontalPlane: a horizontal Lambertian plane under the
+// generated sky (sun included) has radiance rho E / pi, E the map's
+// horizontal irradiance found by direct quadrature of the map
+// (mapIrradiance), whatever the strategy.
+func TestSkyLightsHorizontalPlane(t *testing.T) {
+	w, h, pix, err := Sky{ElevationDeg: 35, AzimuthDeg: 60, Width: 256}.Map()
+	if err != nil {
+		t.Fatal(err)
+	}
+	env, err := NewEnvironmentMap(w, h, pix, EnvironmentOrientation{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	E := mapIrradiance(w, h, pix, [3]float64{0, 0, 1}, nil)
+	m := &Mesh{}
+	appendQuad(m, 0.04, 0.0005, 0)
+	sc := mustScene(t, m)
+	cam := lookAt(Vec3{0.1, -0.1, 0.1}, Vec3{0, 0, 0}, Vec3{0, 0, 1}, 16, 16, 10)
+	rho := 0.5
+	for _, st := range []Strategy{MIS, LightOnly} {
+		f, err := Render(context.Background(), sc, cam, &Lights{Environment: env}, []brdf.Params{lambert(rho, rho, rho)},
+			Settings{SPP: 64, Strategy: st, lambertian: true, TransparentBackground: true, Seed: 13})
+		if err != nil {
+			t.Fatal(err)
+		}
+		mean, v, n := coveredMean(f)
+		if n < 200 {
+			t.Fatalf("plane covers only %d pixels", n)
+		}
+		for c := 0; c < 3; c++ {
+			want := rho * E[c] / math.Pi
+			if !within(mean[c], want, v[c], 4) {
+				t.Errorf("%v channel %d: %.5f, want %.5f (standard error %.2g)", st, c, mean[c], want, math.Sqrt(v[c]))
+			}
+		}
+	}
+}
