@@ -5,8 +5,7 @@ import (
 	"testing"
 )
 
-// White furnace (common practice; Heitz 2014, section 7 uses it for the
-// masking function): under uniform unit radiance the reflected radiance is
+// White furnace (common practice): under uniform unit radiance the reflected radiance is
 // the directional albedo, which must not exceed 1 for any parameter in
 // range. The grid includes the worst case of the diffuse weighting (white
 // diffuse with F0 = 0) and F0 = 1 with white diffuse.
@@ -62,7 +61,7 @@ func TestFurnaceQuadratureCanFail(t *testing.T) {
 // directions must match the same quantity written in microfacet-normal
 // space from the papers: the integral over h of D_wo(h) G2 / G1(wo), with
 // the visible-normal distribution D_wo(h) = G1(wo) max(0, wo.h) D(h) / wo.n
-// (Heitz 2014, eqs. 2 and 99; Heitz 2018, eq. 1). The two integrals use
+// (Heitz 2014, eq. 99; Heitz 2018). The two integrals use
 // different variables, parameterisations and code.
 func TestSingleScatteringAlbedo(t *testing.T) {
 	for _, r := range []float64{0.3, 0.5, 0.7, 1} {

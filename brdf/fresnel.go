@@ -26,7 +26,8 @@ func FresnelDielectric(cosI, eta float64) (rs, rp float64) {
 // cosI for light arriving from a medium of index 1 on a conductor of
 // complex index n + ik (k >= 0 the extinction coefficient), from the Fresnel
 // equations with a complex refractive index (Born and Wolf, Principles of
-// Optics, section 14.2). With k = 0 it equals FresnelDielectric(cosI, n).
+// Optics, the optics of metals). With k = 0 it equals
+// FresnelDielectric(cosI, n).
 func FresnelConductor(cosI, n, k float64) (rs, rp float64) {
 	cosI = clamp01(cosI)
 	eta := complex(n, k)

@@ -60,9 +60,9 @@ func TestConductorF0Gold(t *testing.T) {
 }
 
 // The complex-index Fresnel equations against the real-arithmetic closed
-// form for a conductor in air (Born and Wolf, Principles of Optics,
-// section 14.2; the same form is in Physically Based Rendering, 3rd ed.,
-// section 8.2.1, from memory):
+// form for a conductor in air (Born and Wolf, Principles of Optics; the
+// same form is in Physically Based Rendering, 3rd ed., section 8.2, from
+// memory):
 //
 //	a^2 + b^2 = sqrt((n^2 - k^2 - sin^2)^2 + 4 n^2 k^2)
 //	a = sqrt((a^2 + b^2 + n^2 - k^2 - sin^2) / 2)

@@ -39,7 +39,7 @@ func Lambda(alpha, cosTheta float64) float64 {
 }
 
 // G1 returns the Smith masking function 1 / (1 + Lambda) of GGX for a
-// direction with cosine cosTheta to the normal (Heitz 2014, eq. 43); zero
+// direction with cosine cosTheta to the normal (Heitz 2014); zero
 // below the surface.
 func G1(alpha, cosTheta float64) float64 {
 	if cosTheta <= 0 {

@@ -7,7 +7,7 @@ import (
 
 // GGX normalisation: the projected area of the microfacets equals the
 // macro-surface area, the integral of D(m) (m.n) dm over the hemisphere is 1
-// (Walter et al. 2007, eq. 4). Numerical quadrature in theta_m.
+// (Walter et al. 2007). Numerical quadrature in theta_m.
 func TestGGXNormalisation(t *testing.T) {
 	for _, alpha := range []float64{0.05, 0.1, 0.5, 1} {
 		f := func(th float64) float64 {
@@ -16,12 +16,12 @@ func TestGGXNormalisation(t *testing.T) {
 		}
 		got := integrateBreaks(f, thetaBreaks(alpha), 64)
 		if math.Abs(got-1) > 1e-9 {
-			t.Errorf("alpha %g: integral of D(m)(m.n) = %.12f, want 1 (Walter et al. 2007, eq. 4)", alpha, got)
+			t.Errorf("alpha %g: integral of D(m)(m.n) = %.12f, want 1 (Walter et al. 2007)", alpha, got)
 		}
 	}
 }
 
-// Heitz 2014, eq. 2 (visible projected area): G1(v) times the integral of
+// Heitz 2014, the visible projected area: G1(v) times the integral of
 // max(0, v.m) D(m) dm equals v.n. The azimuth range where v.m > 0 is found
 // in closed form so the quadrature never crosses the kink.
 func TestHeitzVisibleProjectedArea(t *testing.T) {
@@ -57,7 +57,7 @@ func TestHeitzVisibleProjectedArea(t *testing.T) {
 			area := integrateBreaks(inner, br, 48)
 			got := G1(alpha, cv) * area
 			if math.Abs(got-cv) > 1e-8 {
-				t.Errorf("alpha %g, theta_v %g deg: G1 * integral = %.10f, want v.n = %.10f (Heitz 2014, eq. 2)", alpha, deg, got, cv)
+				t.Errorf("alpha %g, theta_v %g deg: G1 * integral = %.10f, want v.n = %.10f (Heitz 2014)", alpha, deg, got, cv)
 			}
 		}
 	}
@@ -124,7 +124,7 @@ func TestClosedFormsAgainstPapers(t *testing.T) {
 	}
 }
 
-// Schlick 1994, eq. 15 (as in glTF 2.0 Appendix B): F0 at normal
+// Schlick 1994 (as in glTF 2.0 Appendix B): F0 at normal
 // incidence, 1 at grazing, and the hand value F0 + (1-F0) 0.5^5 at cos 0.5.
 func TestSchlickFresnel(t *testing.T) {
 	if got := SchlickFresnel(0.04, 1); got != 0.04 {

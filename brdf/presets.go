@@ -72,9 +72,9 @@ var presets = []Preset{
 		RGB{1.5724, 1.0728, 0.60790}, RGB{7.7354, 6.7839, 5.3676}),
 	// Refractive indices at the helium d line (587.6 nm) unless noted.
 	dielectric("glass-n-bk7", "SCHOTT N-BK7 datasheet, nd = 1.5168 (Sellmeier fit)", 587.6, 1.5168),
-	dielectric("fused-silica", "I. H. Malitson, Interspecimen comparison of the refractive index of fused silica, J. Opt. Soc. Am. 55, 1205 (1965): n = 1.45846 at 587.6 nm", 587.6, 1.45846),
-	dielectric("water", "M. Daimon and A. Masumura, Measurement of the refractive index of distilled water from the near-infrared region to the ultraviolet region, Appl. Opt. 46, 3811 (2007): n = 1.3334 at 587.6 nm, 20 C", 587.6, 1.3334),
-	dielectric("diamond", "Handbook of Optics (OSA): n = 2.4175 at 587.6 nm", 587.6, 2.4175),
+	dielectric("fused-silica", "I. H. Malitson 1965, fused silica: n = 1.45846 at 587.6 nm", 587.6, 1.45846),
+	dielectric("water", "M. Daimon and A. Masumura 2007, distilled water: n = 1.3334 at 587.6 nm, 20 C", 587.6, 1.3334),
+	dielectric("diamond", "Handbook of Optics: diamond n = 2.4175", 587.6, 2.4175),
 	dielectric("plastic", "glTF 2.0 specification, Appendix B: the default dielectric, ior 1.5 (F0 = 0.04)", 0, 1.5),
 }
 

@@ -59,7 +59,7 @@ func Sample(p *Params, wo Vec, u [3]float64) (wi Vec, pdf float64, weight RGB, o
 // ps * pdfSpecular + (1 - ps) * wi.Z / pi, where ps is
 // SpecularProbability and pdfSpecular = G1(wo) D(h) / (4 wo.Z) is the
 // visible-normal density D_wo(h) = G1(wo) max(0, wo.h) D(h) / wo.Z
-// (Heitz 2018, eq. 1) times the reflection Jacobian 1 / (4 wo.h). It is zero
+// (Heitz 2018) times the reflection Jacobian 1 / (4 wo.h). It is zero
 // when either direction is at or below the horizon.
 func PDF(p *Params, wo, wi Vec) float64 {
 	muO, muI := wo.Z, wi.Z

@@ -28,7 +28,7 @@ func viewDir(deg float64) Vec { return Spherical(deg*math.Pi/180, 0.3) }
 // lostProbability returns the probability that a specular sample reflects
 // below the horizon: 1 minus the integral, over the normals whose
 // reflection stays above, of the visible-normal density
-// D_wo(h) = G1(wo) max(0, wo.h) D(h) / wo.n (Heitz 2018, eq. 1), written
+// D_wo(h) = G1(wo) max(0, wo.h) D(h) / wo.n (Heitz 2018), written
 // here from the paper, independently of PDF.
 func lostProbability(alpha, thetaDeg float64) float64 {
 	th := thetaDeg * math.Pi / 180
@@ -41,7 +41,7 @@ func lostProbability(alpha, thetaDeg float64) float64 {
 }
 
 // Every sample's weight is Eval * cos / pdf and its pdf is PDF
-// (the one-sample estimator's definition; Veach 1997, section 9.2.4).
+// (the one-sample estimator's definition; Veach 1997, chapter 9).
 func TestSampleWeightAndPDF(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 6))
 	for _, sc := range sampleCases {
@@ -77,8 +77,8 @@ func TestSampleWeightAndPDF(t *testing.T) {
 
 // PDF integrates to 1 over the sphere minus the specular probability
 // times the probability that a visible normal reflects wo below the
-// horizon (Physically Based Rendering, 3rd ed., section 13.1: a density
-// integrates to 1; the lost mass is counted, from Heitz 2018's density).
+// horizon (a density integrates to 1, Physically Based Rendering, 3rd
+// ed., chapter 13; the lost mass is counted, from Heitz 2018's density).
 func TestPDFIntegral(t *testing.T) {
 	for _, sc := range sampleCases {
 		wo := viewDir(sc.theta)
