@@ -35,13 +35,12 @@ func (s Size) String() string {
 
 // station is one camera position of the rig.
 type station struct {
-	id                   string
-	azimuth, elevation   float64 // degrees; azimuth from +X towards +Y
-	distance             float64 // metres from the target
-	dist                 [5]float64
-	linear16             bool // writes 16-bit linear PNG instead of 8-bit sRGB
-	shutterISOAperture   bool // records exposure as shutter, ISO and f-number
-	baseShutter, fNumber float64
+	id                 string
+	azimuth, elevation float64 // degrees; azimuth from +X towards +Y
+	distance           float64 // metres from the target
+	dist               [5]float64
+	linear16           bool    // writes 16-bit linear PNG instead of 8-bit sRGB
+	shutter, fNumber   float64 // base shutter time (s) at ISO 100
 }
 
 // domeLight is one lamp of the dome.
@@ -60,10 +59,10 @@ const (
 // stations of the rig: four stations at two heights, each with its own
 // slightly different lens (distortion as a calibration would report it).
 var stations = []station{
-	{id: "east-low", azimuth: 20, elevation: 14, distance: 0.52, dist: [5]float64{-0.071, 0.042, 0.0004, -0.0003, 0}, baseShutter: 1.0 / 60, fNumber: 8},
-	{id: "north-high", azimuth: 110, elevation: 38, distance: 0.50, dist: [5]float64{-0.064, 0.035, -0.0002, 0.0005, 0}, linear16: true, baseShutter: 1.0 / 60, fNumber: 8},
-	{id: "west-low", azimuth: 200, elevation: 16, distance: 0.53, dist: [5]float64{-0.075, 0.051, 0.0003, 0.0002, -0.01}, shutterISOAperture: true, baseShutter: 1.0 / 50, fNumber: 8},
-	{id: "south-high", azimuth: 290, elevation: 40, distance: 0.49, dist: [5]float64{-0.068, 0.039, -0.0004, -0.0001, 0}, linear16: true, shutterISOAperture: true, baseShutter: 1.0 / 60, fNumber: 8},
+	{id: "east-low", azimuth: 20, elevation: 14, distance: 0.52, dist: [5]float64{-0.071, 0.042, 0.0004, -0.0003, 0}, shutter: 1.0 / 60, fNumber: 8},
+	{id: "north-high", azimuth: 110, elevation: 38, distance: 0.50, dist: [5]float64{-0.064, 0.035, -0.0002, 0.0005, 0}, linear16: true, shutter: 1.0 / 60, fNumber: 8},
+	{id: "west-low", azimuth: 200, elevation: 16, distance: 0.53, dist: [5]float64{-0.075, 0.051, 0.0003, 0.0002, -0.01}, shutter: 1.0 / 50, fNumber: 8},
+	{id: "south-high", azimuth: 290, elevation: 40, distance: 0.49, dist: [5]float64{-0.068, 0.039, -0.0004, -0.0001, 0}, linear16: true, shutter: 1.0 / 60, fNumber: 8},
 }
 
 // domeLights: twelve lamps on a hemisphere of 0.6 m radius in three rings,
