@@ -42,12 +42,13 @@ type Maps struct {
 	DeltaEScale, LightnessScale float64
 }
 
-// The colour scales are Patina's own: paths through CIELAB between a few
-// anchor colours chosen with monotonic lightness, re-sampled so that
-// consecutive entries are equally far apart in Delta E 2000. Equal steps of
-// the data then look like equal steps of colour, and the lightness ramp
-// alone still orders the values for readers with a colour-vision deficiency
-// and on grey-scale prints.
+// The colour scales are Patina's own: smooth paths through CIELAB (a
+// Catmull-Rom spline, so that the path has no corners) through a few anchor
+// colours chosen with monotonic lightness, re-sampled so that consecutive
+// entries are equally far apart in Delta E 2000. Equal steps of the data
+// then look like equal steps of colour, and the lightness ramp alone still
+// orders the values for readers with a colour-vision deficiency and on
+// grey-scale prints.
 var (
 	// sequentialAnchors run from a dark blue-violet (no error) through
 	// magenta and orange to a pale yellow (large error).
@@ -60,15 +61,22 @@ var (
 	}
 	// divergingAnchors run from a dark blue (simulation darker) through a
 	// neutral near-white (no difference) to a dark orange-brown
-	// (simulation lighter); both arms fall in lightness at the same rate.
+	// (simulation lighter). The two arms have the same lightness and
+	// chroma at each anchor, so that equal |dL*| look equally strong.
 	divergingAnchors = []colour.Lab{
-		{L: 32, A: 12, B: -52},
-		{L: 64, A: -4, B: -32},
+		lch(30, 40, 285),
+		lch(63, 34, 265),
 		{L: 96, A: 0, B: 0},
-		{L: 64, A: 28, B: 46},
-		{L: 32, A: 30, B: 36},
+		lch(63, 34, 62),
+		lch(30, 40, 55),
 	}
 )
+
+// lch builds a CIELAB colour from lightness, chroma and hue in degrees.
+func lch(l, c, hDeg float64) colour.Lab {
+	s, co := math.Sincos(hDeg * math.Pi / 180)
+	return colour.Lab{L: l, A: c * co, B: c * s}
+}
 
 // A colourScale maps t in [0, 1] to one of its entries.
 type colourScale struct {
@@ -98,19 +106,32 @@ var (
 	})
 )
 
-// uniformScale samples the polyline through anchors at n points equally
-// spaced in Delta E 2000 arc length.
+// uniformScale samples the Catmull-Rom spline through anchors at n points
+// equally spaced in Delta E 2000 arc length.
 func uniformScale(anchors []colour.Lab, n int) *colourScale {
-	const dense = 64 // sub-steps per segment for the arc length
+	const dense = 1024 // sub-steps per anchor interval for the arc length
+	k := len(anchors)
+	at := func(i int) colour.Lab { // the end tangents mirror the neighbours
+		switch {
+		case i < 0:
+			return colour.Lab{L: 2*anchors[0].L - anchors[1].L, A: 2*anchors[0].A - anchors[1].A, B: 2*anchors[0].B - anchors[1].B}
+		case i >= k:
+			return colour.Lab{L: 2*anchors[k-1].L - anchors[k-2].L, A: 2*anchors[k-1].A - anchors[k-2].A, B: 2*anchors[k-1].B - anchors[k-2].B}
+		}
+		return anchors[i]
+	}
+	cr := func(p0, p1, p2, p3, t float64) float64 {
+		return 0.5 * (2*p1 + (p2-p0)*t + (2*p0-5*p1+4*p2-p3)*t*t + (3*p1-p0-3*p2+p3)*t*t*t)
+	}
 	var pts []colour.Lab
-	for i := 0; i+1 < len(anchors); i++ {
-		a, b := anchors[i], anchors[i+1]
-		for k := 0; k < dense; k++ {
-			t := float64(k) / dense
-			pts = append(pts, colour.Lab{L: a.L + t*(b.L-a.L), A: a.A + t*(b.A-a.A), B: a.B + t*(b.B-a.B)})
+	for i := 0; i+1 < k; i++ {
+		p0, p1, p2, p3 := at(i-1), at(i), at(i+1), at(i+2)
+		for j := 0; j < dense; j++ {
+			t := float64(j) / dense
+			pts = append(pts, colour.Lab{L: cr(p0.L, p1.L, p2.L, p3.L, t), A: cr(p0.A, p1.A, p2.A, p3.A, t), B: cr(p0.B, p1.B, p2.B, p3.B, t)})
 		}
 	}
-	pts = append(pts, anchors[len(anchors)-1])
+	pts = append(pts, anchors[k-1])
 	arc := make([]float64, len(pts))
 	for i := 1; i < len(pts); i++ {
 		arc[i] = arc[i-1] + colour.DeltaE2000(pts[i-1], pts[i])
@@ -309,10 +330,13 @@ func withLegend(img *image.RGBA, lg legend, fs int) *image.RGBA {
 	minW := max(textWidth(lg.title, fs), textWidth(longest(lg.lines), small)) + 2*pad
 	w := max(img.Bounds().Dx(), minW)
 	barH := fs
-	legendH := pad + lineH + barH + fs/2 + lineH + len(lg.lines)*lineH + pad
+	tickH := fs/3 + small + small/2 // tick marks and their numbers
+	rowH := small * 8 / 5           // one line of the smaller text
+	rows := len(lg.lines)
 	if lg.ends[0] != "" {
-		legendH += lineH
+		rows++
 	}
+	legendH := pad + lineH + barH + tickH + rows*rowH + pad
 	out := image.NewRGBA(image.Rect(0, 0, w, img.Bounds().Dy()+legendH))
 	draw.Draw(out, out.Bounds(), image.NewUniform(color.White), image.Point{}, draw.Src)
 	draw.Draw(out, img.Bounds(), img, image.Point{}, draw.Src)
@@ -347,17 +371,18 @@ func withLegend(img *image.RGBA, lg legend, fs int) *image.RGBA {
 		tw := textWidth(s, small)
 		drawText(out, x-tw/2, y+fs/3+small, s, small, ink)
 	}
-	y += fs/2 + lineH
+	y += tickH
 	if lg.ends[0] != "" {
-		drawText(out, bx0, y, lg.ends[0], small, ink)
-		drawText(out, bx1-textWidth(lg.ends[1], small), y, lg.ends[1], small, ink)
+		base := y + small
+		drawText(out, bx0, base, lg.ends[0], small, ink)
+		drawText(out, bx1-textWidth(lg.ends[1], small), base, lg.ends[1], small, ink)
 		mid := "no difference"
-		drawText(out, (bx0+bx1-textWidth(mid, small))/2, y, mid, small, ink)
-		y += lineH
+		drawText(out, (bx0+bx1-textWidth(mid, small))/2, base, mid, small, ink)
+		y += rowH
 	}
 	for _, l := range lg.lines {
-		drawText(out, pad, y, l, small, ink)
-		y += lineH
+		drawText(out, pad, y+small, l, small, ink)
+		y += rowH
 	}
 	return out
 }

@@ -289,14 +289,17 @@ func Compare(render, photo []float32, w, h int, valid []bool, segment []int32, s
 	}
 	nbands := (h + bandRows - 1) / bandRows
 	c.bandAcc = make([]acc, nbands*(nseg+1))
+	c.ssimAcc = make([]acc, c.ssimBands()*(nseg+1))
 	parallel(nbands, threads, c.pixelBand)
-	parallel(nbands, threads, c.ssimBand)
+	parallel(c.ssimBands(), threads, c.ssimBand)
 
 	// Reduce in band order: deterministic for any thread count.
 	tot := make([]acc, nseg+1)
-	for b := 0; b < nbands; b++ {
-		for s := range tot {
-			tot[s].add(&c.bandAcc[b*(nseg+1)+s])
+	for _, bands := range [][]acc{c.bandAcc, c.ssimAcc} {
+		for b := 0; b < len(bands)/(nseg+1); b++ {
+			for s := range tot {
+				tot[s].add(&bands[b*(nseg+1)+s])
+			}
 		}
 	}
 	all := &tot[nseg]
@@ -342,7 +345,8 @@ type comparison struct {
 
 	deltaE, deltaL []float32 // per pixel, NaN where invalid
 	lumR, lumP     []float64 // sRGB-encoded luminance, 0 where invalid
-	bandAcc        []acc     // [band][segment, then the whole image]
+	bandAcc        []acc     // per-pixel pass: [band][segment, then the whole image]
+	ssimAcc        []acc     // SSIM pass, likewise
 }
 
 // pixelBand computes the per-pixel quantities of one band of rows.
@@ -401,17 +405,6 @@ func (c *comparison) pixelBand(band int) {
 			}
 		}
 	}
-}
-
-// encode is the sRGB encoding of a linear value clipped to [0, 1].
-func encode(v float64) float64 {
-	if v <= 0 {
-		return 0
-	}
-	if v >= 1 {
-		return 1
-	}
-	return colour.LinearToSRGBFast(v)
 }
 
 // stats turns the sums of a pixel set and its sorted-by-selection Delta E

@@ -36,85 +36,114 @@ var ssimWindow = func() (g [2*ssimRadius + 1]float64) {
 // y^2, xy, each times the validity mask.
 const ssimSums = 6
 
-// ssimBuffers are one worker's scratch space for a band.
+// ssimBandRows is the height of the bands of the SSIM pass. Each band
+// filters its own 2 * ssimRadius halo rows again, so bands are taller than
+// those of the per-pixel pass; still fixed, for determinism.
+const ssimBandRows = 96
+
+// ssimBuffers are one worker's scratch space: a ring of the 11 most recent
+// horizontally filtered rows per sum (small enough to stay in cache), one
+// row of products, and one vertically filtered output row.
 type ssimBuffers struct {
-	hor [ssimSums][]float64 // horizontally filtered rows of the band and its halo
-	row [ssimSums][]float64 // products of one input row
-	out [ssimSums][]float64 // vertically filtered output row
+	ring [ssimSums][]float64 // row r of the image lives at slot r % 11
+	row  [ssimSums][]float64
+	out  [ssimSums][]float64
 }
 
 var ssimPool sync.Pool
 
 func getSSIMBuffers(w int) *ssimBuffers {
-	rows := bandRows + 2*ssimRadius
 	if b, ok := ssimPool.Get().(*ssimBuffers); ok && len(b.row[0]) == w {
 		return b
 	}
 	b := &ssimBuffers{}
 	for k := 0; k < ssimSums; k++ {
-		b.hor[k] = make([]float64, rows*w)
+		b.ring[k] = make([]float64, (2*ssimRadius+1)*w)
 		b.row[k] = make([]float64, w)
 		b.out[k] = make([]float64, w)
 	}
 	return b
 }
 
+// ssimBands is the number of bands of the SSIM pass.
+func (c *comparison) ssimBands() int { return (c.h + ssimBandRows - 1) / ssimBandRows }
+
 // ssimBand evaluates the masked SSIM map over one band of rows and adds it
-// to the band's sums. See the package documentation for the masking rule.
+// to the band's sums in c.ssimAcc. See the package documentation for the
+// masking rule.
 func (c *comparison) ssimBand(band int) {
 	w, h := c.w, c.h
-	y0, y1 := band*bandRows, min((band+1)*bandRows, h)
-	ys, ye := max(0, y0-ssimRadius), min(h, y1+ssimRadius)
+	const win = 2*ssimRadius + 1
+	y0, y1 := band*ssimBandRows, min((band+1)*ssimBandRows, h)
 	buf := getSSIMBuffers(w)
 	defer ssimPool.Put(buf)
 	g := &ssimWindow
 
-	// Horizontal pass over the band and its halo rows.
-	for y := ys; y < ye; y++ {
+	// horizontal filters image row y into its ring slot.
+	horizontal := func(y int) {
 		base := y * w
-		m, mx, my, mxx, myy, mxy := buf.row[0], buf.row[1], buf.row[2], buf.row[3], buf.row[4], buf.row[5]
+		m, mx, my, mxx, myy, mxy := buf.row[0][:w], buf.row[1][:w], buf.row[2][:w], buf.row[3][:w], buf.row[4][:w], buf.row[5][:w]
+		lr, lp := c.lumR[base:base+w], c.lumP[base:base+w]
 		for x := 0; x < w; x++ {
-			i := base + x
-			if c.valid != nil && !c.valid[i] {
+			if c.valid != nil && !c.valid[base+x] {
 				m[x], mx[x], my[x], mxx[x], myy[x], mxy[x] = 0, 0, 0, 0, 0, 0
 				continue
 			}
-			a, b := c.lumR[i], c.lumP[i]
+			a, b := lr[x], lp[x]
 			m[x], mx[x], my[x], mxx[x], myy[x], mxy[x] = 1, a, b, a*a, b*b, a*b
 		}
-		off := (y - ys) * w
+		off := (y % win) * w
 		for k := 0; k < ssimSums; k++ {
-			filterRow(buf.hor[k][off:off+w], buf.row[k], g)
+			filterRow(buf.ring[k][off:off+w], buf.row[k], g)
 		}
 	}
+	next := max(0, y0-ssimRadius) // next image row to filter horizontally
 
-	// Vertical pass and the SSIM map.
-	accs := c.bandAcc[band*(c.nseg+1) : (band+1)*(c.nseg+1)]
+	accs := c.ssimAcc[band*(c.nseg+1) : (band+1)*(c.nseg+1)]
 	all := &accs[c.nseg]
 	for y := y0; y < y1; y++ {
+		for ; next <= min(h-1, y+ssimRadius); next++ {
+			horizontal(next)
+		}
+		if c.excludeBorder && (y < ssimRadius || y >= h-ssimRadius) {
+			continue
+		}
+		ylo, yhi := max(0, y-ssimRadius), min(h-1, y+ssimRadius)
 		for k := 0; k < ssimSums; k++ {
-			o := buf.out[k]
-			clear(o)
-			for t := -ssimRadius; t <= ssimRadius; t++ {
-				yy := y + t
-				if yy < 0 || yy >= h {
+			o := buf.out[k][:w]
+			if yhi-ylo == 2*ssimRadius {
+				// The whole window is inside the image: one pass with
+				// the symmetric taps paired.
+				var r [win][]float64
+				for t := range r {
+					yy := ylo + t
+					r[t] = buf.ring[k][(yy%win)*w : (yy%win)*w+w][:len(o)]
+				}
+				verticalSymmetric(o, &r, g)
+				continue
+			}
+			first := true
+			for yy := ylo; yy <= yhi; yy++ {
+				src := buf.ring[k][(yy%win)*w : (yy%win)*w+w]
+				src = src[:len(o)]
+				gt := g[yy-y+ssimRadius]
+				if first {
+					for x := range o {
+						o[x] = gt * src[x]
+					}
+					first = false
 					continue
 				}
-				src := buf.hor[k][(yy-ys)*w : (yy-ys+1)*w]
-				gt := g[t+ssimRadius]
 				for x := range o {
 					o[x] += gt * src[x]
 				}
 			}
 		}
-		if c.excludeBorder && (y < ssimRadius || y >= h-ssimRadius) {
-			continue
-		}
 		xs, xe := 0, w
 		if c.excludeBorder {
 			xs, xe = ssimRadius, w-ssimRadius
 		}
-		s0, s1, s2, s11, s22, s12 := buf.out[0], buf.out[1], buf.out[2], buf.out[3], buf.out[4], buf.out[5]
+		s0, s1, s2, s11, s22, s12 := buf.out[0][:w], buf.out[1][:w], buf.out[2][:w], buf.out[3][:w], buf.out[4][:w], buf.out[5][:w]
 		for x := xs; x < xe; x++ {
 			i := y*w + x
 			if c.valid != nil && !c.valid[i] {
@@ -140,17 +169,24 @@ func (c *comparison) ssimBand(band int) {
 	}
 }
 
+// verticalSymmetric sets o to the window-weighted sum of the 11 rows r,
+// pairing the rows at equal distance from the centre (the window is
+// symmetric) to halve the multiplications.
+func verticalSymmetric(o []float64, r *[2*ssimRadius + 1][]float64, g *[2*ssimRadius + 1]float64) {
+	r0, r1, r2, r3, r4, r5 := r[0][:len(o)], r[1][:len(o)], r[2][:len(o)], r[3][:len(o)], r[4][:len(o)], r[5][:len(o)]
+	r6, r7, r8, r9, r10 := r[6][:len(o)], r[7][:len(o)], r[8][:len(o)], r[9][:len(o)], r[10][:len(o)]
+	g0, g1, g2, g3, g4, g5 := g[0], g[1], g[2], g[3], g[4], g[5]
+	for x := range o {
+		o[x] = g0*(r0[x]+r10[x]) + g1*(r1[x]+r9[x]) + g2*(r2[x]+r8[x]) + g3*(r3[x]+r7[x]) + g4*(r4[x]+r6[x]) + g5*r5[x]
+	}
+}
+
 // filterRow convolves src with the window g into dst; taps outside the row
 // contribute nothing (they count as invalid pixels).
 func filterRow(dst, src []float64, g *[2*ssimRadius + 1]float64) {
 	w := len(src)
-	for x := 0; x < w; x++ {
-		if x >= ssimRadius && x+ssimRadius < w {
-			s := src[x-ssimRadius : x+ssimRadius+1 : x+ssimRadius+1]
-			dst[x] = g[0]*s[0] + g[1]*s[1] + g[2]*s[2] + g[3]*s[3] + g[4]*s[4] +
-				g[5]*s[5] + g[6]*s[6] + g[7]*s[7] + g[8]*s[8] + g[9]*s[9] + g[10]*s[10]
-			continue
-		}
+	dst = dst[:w]
+	edge := func(x int) {
 		sum := 0.0
 		for t := -ssimRadius; t <= ssimRadius; t++ {
 			if xx := x + t; xx >= 0 && xx < w {
@@ -158,5 +194,17 @@ func filterRow(dst, src []float64, g *[2*ssimRadius + 1]float64) {
 			}
 		}
 		dst[x] = sum
+	}
+	lo, hi := min(ssimRadius, w), max(min(ssimRadius, w), w-ssimRadius)
+	for x := 0; x < lo; x++ {
+		edge(x)
+	}
+	g0, g1, g2, g3, g4, g5 := g[0], g[1], g[2], g[3], g[4], g[5]
+	for x := lo; x < hi; x++ {
+		s := src[x-ssimRadius : x+ssimRadius+1 : x+ssimRadius+1]
+		dst[x] = g0*(s[0]+s[10]) + g1*(s[1]+s[9]) + g2*(s[2]+s[8]) + g3*(s[3]+s[7]) + g4*(s[4]+s[6]) + g5*s[5]
+	}
+	for x := hi; x < w; x++ {
+		edge(x)
 	}
 }
