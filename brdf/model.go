@@ -58,7 +58,9 @@ type geometry struct {
 	so  float64 // sqrt(muO^2 (1 - alpha^2) + alpha^2)
 	si  float64 // the same for muI
 	den float64 // muI so + muO si
-	dv  float64 // D V, with V = G2 / (4 muO muI) = 0.5 / den
+	x   float64 // alpha^2 |H|^4
+	p   float64 // 2 pi q^2
+	dv  float64 // D V = x / (p den), with V = G2 / (4 muO muI) = 0.5 / den
 	w   float64 // Schlick weight (1 - wo.h)^5
 	kd  float64 // diffuse weight (1 - (1-muO)^5) (1 - (1-muI)^5) / pi
 }
@@ -74,6 +76,13 @@ type geometry struct {
 // summed are rounded explicitly (float64 conversions forbid fused
 // multiply-adds), so swapping the directions gives bit-identical results.
 func (g *geometry) set(a2 float64, wo, wi Vec) {
+	g.prepare(a2, wo, wi)
+	g.dv = g.x / (g.p * g.den)
+}
+
+// prepare fills every field of g but dv, whose division Sample folds into
+// its own.
+func (g *geometry) prepare(a2 float64, wo, wi Vec) {
 	muO, muI := wo.Z, wi.Z
 	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
 	hxy := float64(hx*hx) + float64(hy*hy)
@@ -89,9 +98,11 @@ func (g *geometry) set(a2 float64, wo, wi Vec) {
 	g.so = math.Sqrt(float64(muO*muO*(1-a2)) + a2)
 	g.si = math.Sqrt(float64(muI*muI*(1-a2)) + a2)
 	// Height-correlated Smith G2 / (4 muO muI) written as one fraction
-	// (Heitz 2014, eq. 99 with Lambda from eq. 72): V = 0.5 / den.
+	// (Heitz 2014, eq. 99 with Lambda from eq. 72): V = 0.5 / den, so
+	// D V = x / (p den) with x = alpha^2 |H|^4 and p = 2 pi q^2.
 	g.den = float64(muI*g.so) + float64(muO*g.si)
-	g.dv = a2 * l2 * l2 / (2 * math.Pi * g.q * g.q * g.den)
+	g.x = a2 * l2 * l2
+	g.p = 2 * math.Pi * g.q * g.q
 	g.w = pow5(1 - voh)
 	g.kd = float64((1-pow5(1-unit(muO)))*(1-pow5(1-unit(muI)))) * (1 / math.Pi)
 }

@@ -45,14 +45,34 @@ func Sample(p *Params, wo Vec, u [3]float64) (wi Vec, pdf float64, weight RGB, o
 	if !(wi.Z > 0) {
 		return wi, 0, RGB{}, false
 	}
+	// With D V = x / (p den) and S = muO + so,
+	//   pdf      = ps x / (p S) + (1 - ps) muI / pi = n / (pi p S den),
+	//   n        = pi ps x den + (1 - ps) muI p S den,
+	//   f_c      = (diff_c p den + spec_c x) / (p den),
+	//   weight_c = f_c muI / pdf = (diff_c p den + spec_c x) muI pi S / n,
+	// so one division, r = 1 / (n pi p S den), gives both pdf = n^2 r and
+	// 1 / n = (pi p S den) r: the sampler's chain has one division instead
+	// of three.
 	var gm geometry
-	gm.set(alpha*alpha, wo, wi)
-	pdf = gm.pdf(alpha*alpha, ps, wo, wi)
-	if !(pdf > 0) {
+	gm.prepare(alpha*alpha, wo, wi)
+	muI := wi.Z
+	pd := gm.p * gm.den
+	t := math.Pi * (muO + gm.so) * pd
+	n := math.Pi*ps*gm.x*gm.den + (1-ps)*muI*(muO+gm.so)*pd
+	r := 1 / (n * t)
+	pdf = n * n * r
+	if !(pdf > 0) || math.IsInf(r, 0) {
 		return wi, 0, RGB{}, false
 	}
-	k := wi.Z / pdf
-	return wi, pdf, RGB{gm.channel(d0, s0) * k, gm.channel(d1, s1) * k, gm.channel(d2, s2) * k}, true
+	k := muI * math.Pi * (muO + gm.so) * t * r
+	w0, w1, w2 := gm.parts(d0, s0, pd), gm.parts(d1, s1, pd), gm.parts(d2, s2, pd)
+	return wi, pdf, RGB{w0 * k, w1 * k, w2 * k}, true
+}
+
+// parts returns diff p den + spec x for one channel (see Sample).
+func (g *geometry) parts(d, f0, pd float64) float64 {
+	one := 1 - f0
+	return d*one*one*g.kd*pd + (f0+one*g.w)*g.x
 }
 
 // PDF returns the density in 1/sr with which Sample draws wi given wo:
@@ -110,12 +130,6 @@ func specularProbability(d0, d1, d2, s0, s1, s2, muO float64) float64 {
 		ps = 0.95
 	}
 	return ps
-}
-
-// pdf returns PDF from the geometry of the same pair of directions.
-func (g *geometry) pdf(a2, ps float64, wo, wi Vec) float64 {
-	l2 := g.l2
-	return ps*a2*l2*l2/(2*math.Pi*g.q*g.q*(wo.Z+g.so)) + (1-ps)*wi.Z*(1/math.Pi)
 }
 
 // sampleVisibleNormal returns a microfacet normal distributed as the GGX
