@@ -29,7 +29,10 @@ type Result struct {
 	// of Fit alone).
 	Passes  int
 	Seconds float64
-	Seed    uint64
+	// ObservationSeconds is the part of Seconds spent casting rays and
+	// reading photos.
+	ObservationSeconds float64
+	Seed               uint64
 	// Warnings concern the whole capture (calibration, photos).
 	Warnings []string
 }
@@ -59,6 +62,7 @@ func Run(ctx context.Context, c *capture.Capture, opts Options) (*Result, error)
 	if err != nil {
 		return nil, err
 	}
+	obsSeconds := time.Since(start).Seconds()
 	res, err := Fit(ctx, set, opts)
 	if err != nil {
 		return nil, err
@@ -74,6 +78,7 @@ func Run(ctx context.Context, c *capture.Capture, opts Options) (*Result, error)
 		}
 	}
 	res.Seconds = time.Since(start).Seconds()
+	res.ObservationSeconds = obsSeconds
 	return res, nil
 }
 
@@ -96,7 +101,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 	}
 	n := len(set.Segments)
 	fits := make([]*SegmentFit, n)
-	fitOne := func(si int) error {
+	fitOne := func(si int, warm *brdf.Params) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
@@ -116,7 +121,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 				opts.Progress(p)
 			}
 		}
-		sf, err := fitSegment(ctx, &so.Obs, so.Kind, so.Name, si, n, eps, set.advice(so), o)
+		sf, err := fitSegment(ctx, &so.Obs, so.Kind, so.Name, si, n, eps, set.advice(so), warm, o)
 		if err != nil {
 			return err
 		}
@@ -132,7 +137,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 	if res.Scale.Solved {
 		for si, so := range set.Segments {
 			if so.ReferenceAlbedo != nil {
-				if err := fitOne(si); err != nil {
+				if err := fitOne(si, nil); err != nil {
 					return nil, err
 				}
 			}
@@ -164,9 +169,18 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 				so.Obs.ScaleIrradiance(k)
 			}
 			for si, so := range set.Segments {
-				if so.ReferenceAlbedo != nil {
+				if so.ReferenceAlbedo != nil && fits[si].Fitted {
 					passes := fits[si].Passes
-					if err := fitOne(si); err != nil {
+					// Warm start: the reflectances scale by 1/k.
+					warm := fits[si].Params
+					var v [brdf.MaxParams]float64
+					vec := warm.Vector(v[:0])
+					for j := range vec[:len(vec)-1] {
+						vec[j] /= k
+					}
+					brdf.ClampVector(vec)
+					_ = warm.FromVector(vec)
+					if err := fitOne(si, &warm); err != nil {
 						return nil, err
 					}
 					fits[si].Passes += passes
@@ -178,7 +192,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 	}
 	for si := range set.Segments {
 		if fits[si] == nil {
-			if err := fitOne(si); err != nil {
+			if err := fitOne(si, nil); err != nil {
 				return nil, err
 			}
 		}

@@ -22,9 +22,14 @@ type SegmentFit struct {
 	// three Specular channels; a metal's Diffuse is zero). +Inf marks a
 	// parameter the observations do not determine at all.
 	Sigma brdf.Params
-	// Covariance is the full covariance of the parameter vector (brdf's
-	// Vector order), row-major, NumParams x NumParams.
+	// Covariance is the Gauss-Newton covariance of the parameter vector
+	// (brdf's Vector order), row-major, NumParams x NumParams.
 	Covariance []float64
+	// PhotoInflation is the largest ratio, over the parameters, of the
+	// photo-clustered standard deviation to the Gauss-Newton one (see
+	// uncertainty); above 1 the residuals are correlated within photos
+	// (calibration or model error) and Sigma was widened accordingly.
+	PhotoInflation float64
 	// Observations is the number of observations fitted; NearSpecular how
 	// many of them have a half vector within Options.NearSpecularDegrees of
 	// the normal for at least one light.
@@ -60,13 +65,15 @@ func FitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, opts Opt
 	if eps <= 0 {
 		eps = 1e-4
 	}
-	return fitSegment(ctx, obs, kind, "", 0, 1, eps, "", opts)
+	return fitSegment(ctx, obs, kind, "", 0, 1, eps, "", nil, opts)
 }
 
 // genericAdvice is said when nothing is known about the segment's geometry.
 const genericAdvice = "add photos in which a light sits near the mirror direction of a camera about this segment's surface, so its highlights are seen"
 
-func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name string, index, count int, eps float64, advice string, opts Options) (*SegmentFit, error) {
+// fitSegment fits obs; warm, when not nil, is the single starting point
+// (no roughness starts), used when refitting after a small change.
+func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name string, index, count int, eps float64, advice string, warm *brdf.Params, opts Options) (*SegmentFit, error) {
 	np := kind.NumParams()
 	res := &SegmentFit{Name: name, Kind: kind, Observations: obs.Len()}
 	res.Params.Kind, res.Sigma.Kind = kind, kind
@@ -104,10 +111,23 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 	rules := stopRules{maxPasses: opts.StartPasses, relTol: opts.RelTol, absTol: opts.AbsTol,
 		gradTol: opts.GradTol, patience: opts.Patience}
 
-	starts := initialGuesses(obs, kind, opts)
+	var starts []brdf.Params
+	if warm != nil {
+		starts = []brdf.Params{*warm}
+		rules.maxPasses = 0
+	} else {
+		starts = initialGuesses(obs, kind, opts)
+	}
 	var bestTheta [brdf.MaxParams]float64
 	bestLoss := math.Inf(1)
 	for _, st := range starts {
+		if warm != nil {
+			var v [brdf.MaxParams]float64
+			st.Vector(v[:0])
+			tp.b.theta(v[:np], bestTheta[:np])
+			res.StartRoughness = st.Roughness
+			break
+		}
 		var v, theta [brdf.MaxParams]float64
 		st.Vector(v[:0])
 		tp.b.theta(v[:np], theta[:np])
@@ -242,17 +262,30 @@ func clamp(x, lo, hi float64) float64 {
 	return math.Min(math.Max(x, lo), hi)
 }
 
-// uncertainty fills Sigma, Covariance and RMSE: the Gauss-Newton
-// approximation of the covariance at the optimum. With residuals r_j, their
+// uncertainty fills Sigma, Covariance, RMSE and RMSLog. The covariance is
+// the Gauss-Newton approximation at the optimum. With residuals r_j, their
 // Jacobian J with respect to the natural parameters and the robust loss's
 // iteratively-reweighted-least-squares weights w_j = psi(r_j)/r_j
 // (= 1/sqrt(1 + (r/delta)^2) for Charbonnier),
 //
 //	Cov = s^2 (J^T W J)^-1,   s^2 = sum w_j r_j^2 / (n - p),
 //
-// the classical nonlinear least-squares estimate (e.g. Seber and Wild,
+// the classical nonlinear least-squares estimate (Seber and Wild,
 // "Nonlinear Regression", 1989, section 2.1), scaled by the residual
 // variance so that it describes the noise actually seen.
+//
+// That estimate assumes independent residuals. In a real capture the
+// largest errors are shared by all pixels of a photo (a lamp a few
+// millimetres off, an exposure slightly wrong, interreflection under one
+// light), and then it is far too confident. So the photo-clustered
+// ("sandwich") covariance is computed as well,
+//
+//	Cov_cl = H^-1 (G/(G-1) sum over photos g_p g_p^T) H^-1,
+//	H = J^T W J,  g_p = sum over the photo's residuals of w_j r_j J_j
+//
+// (Liang and Zeger, Biometrika 73(1), 1986; the G/(G-1) small-sample
+// factor is common practice), and each reported sigma is the larger of
+// the two standard deviations. With independent noise both agree.
 func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 	np := res.Kind.NumParams()
 	h := make([]float64, np*np)
@@ -260,6 +293,7 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 	p := &res.Params
 	sumW2, sumR2, sumLin2 := 0.0, 0.0, 0.0
 	nres := 0
+	scores := map[int32]*[brdf.MaxParams]float64{}
 	for i := 0; i < obs.Len(); i++ {
 		wo := brdf.Vec{X: float64(obs.WoX[i]), Y: float64(obs.WoY[i]), Z: float64(obs.WoZ[i])}
 		s, e := obs.lights(i)
@@ -276,6 +310,11 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 				}
 			}
 		}
+		g := scores[obs.Photo[i]]
+		if g == nil {
+			g = new([brdf.MaxParams]float64)
+			scores[obs.Photo[i]] = g
+		}
 		o := [3]float64{float64(obs.R[i]), float64(obs.G[i]), float64(obs.B[i])}
 		for c := 0; c < 3; c++ {
 			me := m[c] + eps
@@ -288,6 +327,7 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 			nres++
 			for a := 0; a < np; a++ {
 				ja := dm[c][a] / me
+				g[a] += w * r * ja
 				for b := 0; b <= a; b++ {
 					h[a*np+b] += w * ja * dm[c][b] / me
 				}
@@ -305,29 +345,55 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 	sigma := make([]float64, np)
 	res.Covariance = make([]float64, np*np)
 	var chol mat.Cholesky
-	if ok := chol.Factorize(mat.NewSymDense(np, h)); ok {
-		var inv mat.SymDense
-		if err := chol.InverseTo(&inv); err == nil {
-			for a := 0; a < np; a++ {
-				for b := 0; b < np; b++ {
-					res.Covariance[a*np+b] = s2 * inv.At(a, b)
-				}
-				sigma[a] = math.Sqrt(math.Max(res.Covariance[a*np+a], 0))
-			}
-		} else {
-			ok = false
-		}
-		if !ok {
-			for a := range sigma {
-				sigma[a] = math.Inf(1)
-			}
-		}
-	} else {
+	var inv mat.SymDense
+	ok := chol.Factorize(mat.NewSymDense(np, h))
+	if ok {
+		ok = chol.InverseTo(&inv) == nil
+	}
+	if !ok {
 		for a := range sigma {
 			sigma[a] = math.Inf(1)
 		}
 		for a := range res.Covariance {
 			res.Covariance[a] = math.Inf(1)
+		}
+		res.PhotoInflation = math.NaN()
+		_ = res.Sigma.FromVector(sigma)
+		return
+	}
+	for a := 0; a < np; a++ {
+		for b := 0; b < np; b++ {
+			res.Covariance[a*np+b] = s2 * inv.At(a, b)
+		}
+		sigma[a] = math.Sqrt(math.Max(res.Covariance[a*np+a], 0))
+	}
+	res.PhotoInflation = 1
+	if G := len(scores); G >= 2 {
+		// Photos in index order, so the sums do not depend on map order.
+		keys := make([]int, 0, G)
+		for k := range scores {
+			keys = append(keys, int(k))
+		}
+		sort.Ints(keys)
+		meat := mat.NewSymDense(np, nil)
+		for _, k := range keys {
+			g := scores[int32(k)]
+			for a := 0; a < np; a++ {
+				for b := 0; b <= a; b++ {
+					meat.SetSym(a, b, meat.At(a, b)+g[a]*g[b])
+				}
+			}
+		}
+		var t1, cl mat.Dense
+		t1.Mul(&inv, meat)
+		cl.Mul(&t1, &inv)
+		f := float64(G) / float64(G-1)
+		for a := 0; a < np; a++ {
+			sc := math.Sqrt(math.Max(f*cl.At(a, a), 0))
+			if sigma[a] > 0 {
+				res.PhotoInflation = math.Max(res.PhotoInflation, sc/sigma[a])
+			}
+			sigma[a] = math.Max(sigma[a], sc)
 		}
 	}
 	_ = res.Sigma.FromVector(sigma)

@@ -206,7 +206,7 @@ func printFitTable(w io.Writer, res *fit.Result, out string) {
 	if res.Scale.Solved {
 		fmt.Fprintf(w, "radiometric scale %.5g ± %.2g (%s)\n", res.Scale.Value, res.Scale.Sigma, strings.Join(res.Scale.Targets, ", "))
 	}
-	fmt.Fprintf(w, "optimizer %s, %d passes, %.1f s; wrote %s\n", res.Optimizer, res.Passes, res.Seconds, out)
+	fmt.Fprintf(w, "optimizer %s, %d passes, %.1f s (%.1f s reading photos); wrote %s\n", res.Optimizer, res.Passes, res.Seconds, res.ObservationSeconds, out)
 }
 
 // fitJSON is the -json output: the materials file's content plus the
