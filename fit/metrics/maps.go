@@ -355,7 +355,7 @@ func withLegend(img *image.RGBA, lg legend, fs int) *image.RGBA {
 	}
 	y += barH
 	// Ticks and their numbers.
-	step := niceStep(lg.hi-lg.lo, max(3, (bx1-bx0)/(fs*4)))
+	step := niceStep(lg.hi-lg.lo, min(10, max(3, (bx1-bx0)/(fs*4))))
 	for v := math.Ceil(lg.lo/step-1e-9) * step; v <= lg.hi+1e-9*step; v += step {
 		x := bx0 + int(math.Round((v-lg.lo)/(lg.hi-lg.lo)*float64(bx1-bx0-1)))
 		for yy := y; yy < y+fs/3; yy++ {

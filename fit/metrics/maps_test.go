@@ -184,3 +184,25 @@ func TestNiceStepAndTicks(t *testing.T) {
 		t.Errorf("formatTick(2.5) = %q", s)
 	}
 }
+
+// With PATINA_MAPS_DIR set, also keep the pictures of a full-size pair.
+func TestMapImagesFullSize(t *testing.T) {
+	dir := os.Getenv("PATINA_MAPS_DIR")
+	if dir == "" {
+		t.Skip("set PATINA_MAPS_DIR to keep the full-size pictures")
+	}
+	p := benchPair()
+	_, maps, err := Compare(p.render, p.photo, p.w, p.h, p.valid, p.segment, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, img := range map[string]*image.RGBA{"full-deltae.png": maps.DeltaEImage, "full-deltal.png": maps.DeltaLImage, "full-strip.png": maps.Strip} {
+		var b bytes.Buffer
+		if err := png.Encode(&b, img); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, name), b.Bytes(), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+}

@@ -253,21 +253,8 @@ func Compare(render, photo []float32, w, h int, valid []bool, segment []int32, s
 			}
 		}
 	}
-	isValid := func(i int) bool { return valid == nil || valid[i] }
-	// Non-finite values in compared pixels, and the photo's brightness for
-	// the default peak.
-	for i := 0; i < n; i++ {
-		if !isValid(i) {
-			continue
-		}
-		for c := 0; c < 3; c++ {
-			if v := float64(photo[3*i+c]); math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, nil, inputErrorf("photo pixel (%d, %d) channel %d is %v in a valid pixel", i%w, i/w, c, v)
-			}
-			if v := float64(render[3*i+c]); math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, nil, inputErrorf("render pixel (%d, %d) channel %d is %v in a valid pixel", i%w, i/w, c, v)
-			}
-		}
+	if err := checkFinite(render, photo, w, h, valid, opt.Threads); err != nil {
+		return nil, nil, err
 	}
 	peak := opt.Peak
 	if peak == 0 {
@@ -474,6 +461,46 @@ func (c *comparison) gatherDeltaE(tot []acc) [][]float32 {
 	}
 	out[nseg] = whole
 	return out
+}
+
+// checkFinite reports the first valid pixel (in row-major order) holding a
+// NaN or an infinity, checking bands of rows in parallel.
+func checkFinite(render, photo []float32, w, h int, valid []bool, threads int) error {
+	if threads == 0 {
+		threads = runtime.GOMAXPROCS(0)
+	}
+	nbands := (h + bandRows - 1) / bandRows
+	bad := make([]int, nbands) // first bad pixel of each band, or -1
+	parallel(nbands, threads, func(b int) {
+		bad[b] = -1
+		for i := b * bandRows * w; i < min((b+1)*bandRows, h)*w; i++ {
+			if valid != nil && !valid[i] {
+				continue
+			}
+			p, r := photo[3*i:3*i+3:3*i+3], render[3*i:3*i+3:3*i+3]
+			// v - v is NaN exactly for NaN and the infinities.
+			if s := (p[0] - p[0]) + (p[1] - p[1]) + (p[2] - p[2]) + (r[0] - r[0]) + (r[1] - r[1]) + (r[2] - r[2]); s != 0 {
+				bad[b] = i
+				return
+			}
+		}
+	})
+	for _, i := range bad {
+		if i < 0 {
+			continue
+		}
+		for c := 0; c < 3; c++ {
+			if v := float64(photo[3*i+c]); math.IsNaN(v) || math.IsInf(v, 0) {
+				return inputErrorf("photo pixel (%d, %d) channel %d is %v in a valid pixel", i%w, i/w, c, v)
+			}
+		}
+		for c := 0; c < 3; c++ {
+			if v := float64(render[3*i+c]); math.IsNaN(v) || math.IsInf(v, 0) {
+				return inputErrorf("render pixel (%d, %d) channel %d is %v in a valid pixel", i%w, i/w, c, v)
+			}
+		}
+	}
+	return nil
 }
 
 // defaultPeak is the DefaultPeakPercentile of max(R, G, B) over the photo's
