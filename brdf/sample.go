@@ -19,28 +19,75 @@ func Sample(p *Params, wo Vec, u [3]float64) (wi Vec, pdf float64, weight RGB, o
 	if !(muO > 0) {
 		return Vec{}, 0, RGB{}, false
 	}
+	// Both lobes start from the same uniform point on the unit disk.
+	// (The hot path is written out in one function: calls cost more than
+	// the arithmetic here, since every live value is spilled around them.)
+	r := math.Sqrt(u[1])
+	sn, cs := sincos2pi(u[2])
+	p1, p2 := r*cs, r*sn
+
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
-	ps := specularProbability(d0, d1, d2, s0, s1, s2, muO)
+	// SpecularProbability, written out.
+	w5 := pow5(1 - unit(muO))
+	o0, o1, o2 := 1-s0, 1-s1, 1-s2
+	ps := lobeShare(s0+s1+s2+(o0+o1+o2)*w5, (d0*o0*o0+d1*o1*o1+d2*o2*o2)*(1-w5))
+
 	alpha := p.Alpha()
 	if u[0] < ps {
-		// Reflect wo about the unnormalised normal m:
+		// Visible normal (Heitz 2018, listing 1). Stretch the view into
+		// the configuration of the hemisphere (alpha 1).
+		vx, vy, vz := alpha*wo.X, alpha*wo.Y, wo.Z
+		// Orthonormal basis (t1, t2, vh); t1 is perpendicular to the plane
+		// of wo and the normal, which stretching does not change. One
+		// division serves both normalisations.
+		t1x, t1y := 1.0, 0.0
+		sxy := wo.X*wo.X + wo.Y*wo.Y
+		sl := math.Sqrt(vx*vx + vy*vy + vz*vz)
+		if sxy > 0 {
+			sq := math.Sqrt(sxy)
+			inv := 1 / (sq * sl)
+			k := sl * inv // 1 / sqrt(sxy)
+			t1x, t1y = -wo.Y*k, wo.X*k
+			sl = sq * inv // now 1 / |v|
+		} else {
+			sl = 1 / sl
+		}
+		vx, vy, vz = vx*sl, vy*sl, vz*sl
+		t2x, t2y, t2z := -vz*t1y, vz*t1x, vx*t1y-vy*t1x // vh x t1
+		// Warp the disk point onto the visible half of the hemisphere.
+		h := 0.5 * (1 + vz)
+		e := 1 - p1*p1
+		if e < 0 {
+			e = 0
+		}
+		q2 := (1-h)*math.Sqrt(e) + h*p2
+		e -= q2 * q2
+		if e < 0 {
+			e = 0
+		}
+		p3 := math.Sqrt(e)
+		nx := p1*t1x + q2*t2x + p3*vx
+		ny := p1*t1y + q2*t2y + p3*vy
+		nz := q2*t2z + p3*vz
+		if nz < 0 {
+			nz = 0
+		}
+		// Unstretch to the normal m (not normalised), then reflect:
 		// wi = 2 (wo.m) m / |m|^2 - wo.
-		m := sampleVisibleNormal(alpha, wo, u[1], u[2])
-		m2 := m.Dot(m)
+		mx, my, mz := alpha*nx, alpha*ny, nz
+		m2 := mx*mx + my*my + mz*mz
 		if !(m2 > 0) {
 			return Vec{}, 0, RGB{}, false
 		}
-		k := 2 * wo.Dot(m) / m2
-		wi = Vec{k*m.X - wo.X, k*m.Y - wo.Y, k*m.Z - wo.Z}
+		k := 2 * (wo.X*mx + wo.Y*my + wo.Z*mz) / m2
+		wi = Vec{k*mx - wo.X, k*my - wo.Y, k*mz - wo.Z}
 	} else {
 		// Cosine-weighted hemisphere (Malley's method).
-		r := math.Sqrt(u[1])
-		s, c := sincos2pi(u[2])
 		z := 1 - u[1]
 		if z < 0 {
 			z = 0
 		}
-		wi = Vec{r * c, r * s, math.Sqrt(z)}
+		wi = Vec{p1, p2, math.Sqrt(z)}
 	}
 	if !(wi.Z > 0) {
 		return wi, 0, RGB{}, false
@@ -51,20 +98,19 @@ func Sample(p *Params, wo Vec, u [3]float64) (wi Vec, pdf float64, weight RGB, o
 	//   f_c      = (diff_c p den + spec_c x) / (p den),
 	//   weight_c = f_c muI / pdf = (diff_c p den + spec_c x) muI pi S / n,
 	// so one division, r = 1 / (n pi p S den), gives both pdf = n^2 r and
-	// 1 / n = (pi p S den) r: the sampler's chain has one division instead
-	// of three.
+	// 1 / n = (pi p S den) r: one division instead of three.
 	var gm geometry
 	gm.prepare(alpha*alpha, wo, wi)
 	muI := wi.Z
 	pd := gm.p * gm.den
 	t := math.Pi * (muO + gm.so) * pd
 	n := math.Pi*ps*gm.x*gm.den + (1-ps)*muI*(muO+gm.so)*pd
-	r := 1 / (n * t)
-	pdf = n * n * r
-	if !(pdf > 0) || math.IsInf(r, 0) {
+	rr := 1 / (n * t)
+	pdf = n * n * rr
+	if !(pdf > 0) || math.IsInf(rr, 0) {
 		return wi, 0, RGB{}, false
 	}
-	k := muI * math.Pi * (muO + gm.so) * t * r
+	k := muI * math.Pi * (muO + gm.so) * t * rr
 	w0, w1, w2 := gm.parts(d0, s0, pd), gm.parts(d1, s1, pd), gm.parts(d2, s2, pd)
 	return wi, pdf, RGB{w0 * k, w1 * k, w2 * k}, true
 }
@@ -115,8 +161,12 @@ func SpecularProbability(p *Params, wo Vec) float64 {
 func specularProbability(d0, d1, d2, s0, s1, s2, muO float64) float64 {
 	w := pow5(1 - unit(muO))
 	o0, o1, o2 := 1-s0, 1-s1, 1-s2
-	ws := s0 + s1 + s2 + (o0+o1+o2)*w
-	wd := (d0*o0*o0 + d1*o1*o1 + d2*o2*o2) * (1 - w)
+	return lobeShare(s0+s1+s2+(o0+o1+o2)*w, (d0*o0*o0+d1*o1*o1+d2*o2*o2)*(1-w))
+}
+
+// lobeShare returns the specular probability for the specular and diffuse
+// albedo estimates ws and wd.
+func lobeShare(ws, wd float64) float64 {
 	if !(wd > 0) {
 		return 1
 	}
@@ -130,52 +180,4 @@ func specularProbability(d0, d1, d2, s0, s1, s2, muO float64) float64 {
 		ps = 0.95
 	}
 	return ps
-}
-
-// sampleVisibleNormal returns a microfacet normal distributed as the GGX
-// distribution of normals visible from wo (Heitz 2018, listing 1), not
-// normalised (callers divide by its squared length).
-func sampleVisibleNormal(alpha float64, wo Vec, u1, u2 float64) Vec {
-	// Stretch the view into the configuration of the hemisphere (alpha 1).
-	vx, vy, vz := alpha*wo.X, alpha*wo.Y, wo.Z
-	// Orthonormal basis (t1, t2, vh); t1 is perpendicular to the plane of
-	// wo and the normal, which stretching does not change. One division
-	// serves both normalisations.
-	t1x, t1y := 1.0, 0.0
-	sxy := wo.X*wo.X + wo.Y*wo.Y
-	sl := math.Sqrt(vx*vx + vy*vy + vz*vz)
-	if sxy > 0 {
-		sq := math.Sqrt(sxy)
-		inv := 1 / (sq * sl)
-		k := sl * inv // 1 / sqrt(sxy)
-		t1x, t1y = -wo.Y*k, wo.X*k
-		sl = sq * inv // now 1 / |v|
-	} else {
-		sl = 1 / sl
-	}
-	vx, vy, vz = vx*sl, vy*sl, vz*sl
-	t2x, t2y, t2z := -vz*t1y, vz*t1x, vx*t1y-vy*t1x // vh x t1
-	// Uniform point on the disk, warped onto the visible half.
-	r := math.Sqrt(u1)
-	s, c := sincos2pi(u2)
-	p1, p2 := r*c, r*s
-	h := 0.5 * (1 + vz)
-	e := 1 - p1*p1
-	if e < 0 {
-		e = 0
-	}
-	p2 = (1-h)*math.Sqrt(e) + h*p2
-	e -= p2 * p2
-	if e < 0 {
-		e = 0
-	}
-	p3 := math.Sqrt(e)
-	nx := p1*t1x + p2*t2x + p3*vx
-	ny := p1*t1y + p2*t2y + p3*vy
-	nz := p2*t2z + p3*vz
-	if nz < 0 {
-		nz = 0
-	}
-	// Unstretch back to the ellipsoid configuration.
-	return Vec{alpha * nx, alpha * ny, nz}
 }
