@@ -41,16 +41,19 @@
 // S(mu) = F0 + (1-F0)(1-mu)^5 is Schlick's reflectance at the normal
 // cosine: light that the specular interface reflects on the way in, or
 // would reflect on the way out, is taken from the diffuse lobe. Being a
-// product of one factor per direction it is reciprocal, and it is the same
-// for every microfacet, so Eval costs no table look-up. It keeps the
-// directional albedo at or below 1 for every parameter in range: the worst
-// case is F0 = 0 with a white diffuse colour, where the specular albedo plus
-// (1 - S(muO)) times the cosine-weighted mean of (1 - S(muI)) (that is,
-// 20/21) stays below 1 at every angle and roughness; the white furnace test
-// checks it over a grid. The price is that a dielectric's diffuse lobe is
-// a few percent darker than glTF 2.0's (1 - F(v.h)) weighting, which is not
-// energy conserving at grazing angles. The fit absorbs the difference into
-// the diffuse colour.
+// product of one factor per direction it is reciprocal, and it does not
+// depend on the microfacet normal, so Eval needs no table of directional
+// albedos. It keeps the directional albedo at or below 1 for every
+// parameter in range. Because the specular albedo is linear in F0 and at
+// most 1 for F0 = 1, the worst case is F0 = 0 with a white diffuse colour,
+// where the specular albedo plus (1 - S(muO)) times the cosine-weighted mean
+// of (1 - S(muI)), 20/21, must stay below 1; the white furnace test checks
+// it over a grid of F0, roughness and angle (largest albedo 0.981 for
+// F0 < 1). The price is a darker diffuse lobe than glTF 2.0's (1 - F(v.h))
+// weighting, about 8% at normal incidence for F0 = 0.04; that weighting,
+// however, reflects more than it receives at grazing angles (the test finds
+// an albedo of 1.5 at 89 degrees). A fit absorbs the difference into the
+// diffuse colour.
 //
 // # Sampling
 //
