@@ -80,6 +80,11 @@ const (
 	MaxPixels = 8192 * 8192
 	// MaxSegments is the largest number of segments Compare accepts.
 	MaxSegments = 1024
+	// MinPeak and MaxPeak bound Options.Peak, so that every float32 value
+	// divided by the peak stays far from overflow in CIEDE2000 (which
+	// raises chroma to the 7th power).
+	MinPeak = 1e-30
+	MaxPeak = 1e30
 )
 
 // DefaultPeakPercentile is the percentile of the photo's valid max(R, G, B)
@@ -222,8 +227,8 @@ func Compare(render, photo []float32, w, h int, valid []bool, segment []int32, s
 	if len(segNames) > MaxSegments {
 		return nil, nil, inputErrorf("%d segment names exceed the limit of %d", len(segNames), MaxSegments)
 	}
-	if !(opt.Peak >= 0) || math.IsInf(opt.Peak, 0) {
-		return nil, nil, inputErrorf("Options.Peak %v: want a finite value >= 0 (0 for the default)", opt.Peak)
+	if opt.Peak != 0 && !(opt.Peak >= MinPeak && opt.Peak <= MaxPeak) {
+		return nil, nil, inputErrorf("Options.Peak %v: want 0 (the default) or a value in [%g, %g]", opt.Peak, MinPeak, MaxPeak)
 	}
 	if opt.Threads < 0 {
 		return nil, nil, inputErrorf("Options.Threads %d: want >= 0", opt.Threads)
