@@ -11,6 +11,9 @@ var (
 	sin6     = math.Sin(6 * math.Pi / 180)
 	cos63    = math.Cos(63 * math.Pi / 180)
 	sin63    = math.Sin(63 * math.Pi / 180)
+	// cosRotationCut is the cosine of 275 - 25 sqrt(40) degrees, the mean
+	// hue below which the CIEDE2000 rotation term vanishes in float64.
+	cosRotationCut = math.Cos((275 - 25*math.Sqrt(40)) * math.Pi / 180)
 )
 
 const (
@@ -31,8 +34,9 @@ const (
 // from the (a', b) vectors rather than from hue angles: the hue difference
 // term 2 sqrt(C'1 C'2) sin(dh'/2) from their cross and dot products, and the
 // mean hue as the direction of the bisector of the two hue vectors (which is
-// what the case analysis of eq. 14 selects). That leaves one atan2, one exp
-// and one sine per call; the tests hold it to the literal equations.
+// what the case analysis of eq. 14 selects). That leaves at most one atan2
+// and one exp per call, none for mean hues below 117 degrees where the
+// rotation term vanishes; the tests hold it to the literal equations.
 func DeltaE2000(l1, l2 Lab) float64 {
 	// Eq. 2-6: chroma-dependent compression of a*.
 	c1 := math.Sqrt(l1.A*l1.A + l1.B*l1.B)
@@ -105,13 +109,9 @@ func DeltaE2000(l1, l2 Lab) float64 {
 		ch, sh = wa*n, wb*n
 	}
 
-	// Eq. 13-14: means. hm is the mean hue in degrees in [0, 360).
+	// Eq. 12-13: mean lightness and chroma.
 	lm := (l1.L + l2.L) / 2
 	cpm := (cp1 + cp2) / 2
-	hm := math.Atan2(sh, ch) * rad2deg
-	if hm < 0 {
-		hm += 360
-	}
 
 	// Eq. 15: T from the cosine and sine of the mean hue through the
 	// multiple-angle identities, instead of four cosines.
@@ -127,13 +127,24 @@ func DeltaE2000(l1, l2 Lab) float64 {
 		0.32*(cos3*cos6-sin3*sin6) - // cos(3h + 6)
 		0.20*(cos4*cos63+sin4*sin63) // cos(4h - 63)
 
-	// Eq. 16-22: weights and the rotation term.
-	// Beyond x^2 = 40 the rotation term is below 1e-16 of its peak.
-	x := (hm - 275) / 25
+	// Eq. 17-18: the rotation angle 30 exp(-((h - 275) / 25)^2) degrees,
+	// with h the mean hue in degrees in [0, 360). Beyond (h - 275)^2 / 625
+	// = 40 the rotation term is below 1e-16 of its peak and is left out:
+	// that is every hue from 0 to 275 - 25 sqrt(40) = 116.9 degrees (the
+	// reds, oranges, yellows and browns of most objects), recognised from
+	// the direction (ch, sh) without an arctangent.
 	var sin2Theta float64
-	if x2 := x * x; x2 < 40 {
-		sin2Theta = sinSmall(60 * deg2rad * math.Exp(-x2)) // sin(2 * 30 exp(-x^2) degrees)
+	if !(sh >= 0 && ch > cosRotationCut) {
+		hm := math.Atan2(sh, ch) * rad2deg
+		if hm < 0 {
+			hm += 360
+		}
+		x := (hm - 275) / 25
+		if x2 := x * x; x2 < 40 {
+			sin2Theta = sinSmall(60 * deg2rad * math.Exp(-x2)) // sin(2 * 30 exp(-x^2) degrees)
+		}
 	}
+	// Eq. 16-22: weights and the rotation term.
 	cpm7 := pow7(cpm)
 	rc := 2 * math.Sqrt(cpm7/(cpm7+pow25to7))
 	lm50 := (lm - 50) * (lm - 50)
