@@ -206,7 +206,9 @@ func runAdam(ctx context.Context, tp *thetaProblem, theta []float64, rules stopR
 		case gn < rules.gradTol:
 			copy(theta, best[:n])
 			return bestF, stopGradient, nil
-		case sinceProgress >= rules.patience:
+		case sinceProgress >= 4*rules.patience:
+			// Adam's loss is not monotone, so it gets more patience
+			// than a line-search method.
 			copy(theta, best[:n])
 			return bestF, stopConverged, nil
 		case pass >= rules.maxPasses:
@@ -221,8 +223,8 @@ func runAdam(ctx context.Context, tp *thetaProblem, theta []float64, rules stopR
 			copy(theta, best[:n])
 			m, v = [brdf.MaxParams]float64{}, [brdf.MaxParams]float64{}
 			sinceBest = 0
-			if lr < 1e-7 {
-				return bestF, stopStalled, nil
+			if lr < 1e-6 {
+				return bestF, stopConverged, nil
 			}
 			continue
 		}

@@ -28,7 +28,7 @@ type Options struct {
 	// included. Default 200.
 	MaxPasses int
 	// StartPasses is the length of the short run from each roughness start
-	// before the best one is continued. Default 8.
+	// before the best one is continued. Default 5.
 	StartPasses int
 	// RoughnessStarts are the initial perceptual roughness values tried.
 	// Default {0.15, 0.4, 0.75}.
@@ -39,12 +39,12 @@ type Options struct {
 	MinRoughness float64
 	// RelTol and AbsTol: a pass whose loss decrease is below
 	// RelTol*|loss| + AbsTol makes no progress; Patience such passes (or
-	// major iterations for L-BFGS) in a row stop the fit. Defaults 1e-10,
+	// major iterations for L-BFGS) in a row stop the fit. Defaults 1e-9,
 	// 1e-16 and 5.
 	RelTol, AbsTol float64
 	Patience       int
 	// GradTol stops when the largest gradient component (in the optimiser's
-	// unconstrained coordinates) falls below it. Default 1e-11.
+	// unconstrained coordinates) falls below it. Default 1e-10.
 	GradTol float64
 
 	// Delta is the Charbonnier scale on the log-radiance residual: residuals
@@ -104,7 +104,7 @@ func (o Options) withDefaults() Options {
 		o.MaxPasses = 200
 	}
 	if o.StartPasses <= 0 {
-		o.StartPasses = 8
+		o.StartPasses = 5
 	}
 	if len(o.RoughnessStarts) == 0 {
 		o.RoughnessStarts = []float64{0.15, 0.4, 0.75}
@@ -113,7 +113,7 @@ func (o Options) withDefaults() Options {
 		o.MinRoughness = 0.03
 	}
 	if o.RelTol <= 0 {
-		o.RelTol = 1e-10
+		o.RelTol = 1e-9
 	}
 	if o.AbsTol <= 0 {
 		o.AbsTol = 1e-16
@@ -122,7 +122,7 @@ func (o Options) withDefaults() Options {
 		o.Patience = 5
 	}
 	if o.GradTol <= 0 {
-		o.GradTol = 1e-11
+		o.GradTol = 1e-10
 	}
 	if o.Delta <= 0 {
 		o.Delta = 0.1
