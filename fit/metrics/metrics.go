@@ -298,14 +298,20 @@ func Compare(render, photo []float32, w, h int, valid []bool, segment []int32, s
 	if all.n == 0 {
 		return nil, nil, ErrNoPixels
 	}
-	sorted := c.gatherDeltaE(tot)
+	groups := c.gatherDeltaE(tot)
+	stats := make([]Stats, nseg+1)
+	parallel(nseg+1, threads, func(s int) {
+		if tot[s].n > 0 {
+			stats[s] = c.stats(&tot[s], groups[s])
+		}
+	})
 	res := &Result{Peak: peak}
-	res.setStats(c.stats(all, sorted[nseg]))
+	res.setStats(stats[nseg])
 	for s := 0; s < nseg; s++ {
 		if tot[s].n == 0 {
 			continue
 		}
-		st := c.stats(&tot[s], sorted[s])
+		st := stats[s]
 		name := ""
 		if s < len(segNames) {
 			name = segNames[s]
@@ -399,8 +405,8 @@ func (c *comparison) pixelBand(band int) {
 	}
 }
 
-// stats turns the sums of a pixel set and its sorted-by-selection Delta E
-// values into metrics.
+// stats turns the sums of a pixel set and its Delta E values (which it
+// reorders) into metrics.
 func (c *comparison) stats(a *acc, de []float32) Stats {
 	s := Stats{Pixels: a.n}
 	s.PSNRLinear = psnr(a.seLin / float64(3*a.n))
@@ -411,8 +417,7 @@ func (c *comparison) stats(a *acc, de []float32) Stats {
 		s.SSIM = math.NaN() // every pixel in the excluded border
 	}
 	s.DE2000Mean = a.de / float64(a.n)
-	s.DE2000Median = percentile(de, 50)
-	s.DE2000P95 = percentile(de, 95)
+	s.DE2000Median, s.DE2000P95 = medianAndP95(de)
 	s.DE2000Max = float64(a.max)
 	return s
 }

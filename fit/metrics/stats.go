@@ -30,6 +30,34 @@ func percentile(v []float32, q float64) float64 {
 	return lo + frac*(float64(hi)-lo)
 }
 
+// medianAndP95 returns the 50th and 95th percentiles of v as percentile
+// does, selecting the 95th first so that the median is selected among the
+// values below it only. It reorders v.
+func medianAndP95(v []float32) (median, p95 float64) {
+	n := len(v)
+	if n == 0 {
+		return math.NaN(), math.NaN()
+	}
+	p95 = percentile(v, 95)
+	k95 := min(int(math.Floor(0.95*float64(n-1))), n-1)
+	pos := 0.5 * float64(n-1)
+	k := int(math.Floor(pos))
+	frac := pos - float64(k)
+	if k >= k95 { // tiny sets: no room below the 95th
+		return percentile(v, 50), p95
+	}
+	// v[:k95] holds the k95 smallest values, v[k95] the next.
+	lo := float64(selectK(v[:k95], k))
+	if frac == 0 {
+		return lo, p95
+	}
+	hi := float64(v[k95])
+	if k+1 < k95 {
+		hi = math.Min(hi, float64(slices.Min(v[k+1:k95])))
+	}
+	return lo + frac*(hi-lo), p95
+}
+
 // selectK reorders v so that v[k] is the k-th smallest value (0-based), all
 // before it no larger and all after it no smaller, and returns it. It is
 // Hoare's quickselect with a median-of-three pivot; after too many rounds

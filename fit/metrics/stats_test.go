@@ -45,6 +45,13 @@ func TestPercentileAgainstSorting(t *testing.T) {
 			for i, x := range v {
 				f[i] = float64(x)
 			}
+			med, p95 := medianAndP95(slices.Clone(v))
+			if want := sortedPercentile(f, 50); math.Abs(med-want) > 1e-12*(1+math.Abs(want)) {
+				t.Errorf("n=%d %s: median %v, sorting gives %v", n, kind, med, want)
+			}
+			if want := sortedPercentile(f, 95); math.Abs(p95-want) > 1e-12*(1+math.Abs(want)) {
+				t.Errorf("n=%d %s: p95 %v, sorting gives %v", n, kind, p95, want)
+			}
 			for _, q := range []float64{0, 5, 50, 95, 99.9, 100} {
 				got := percentile(slices.Clone(v), q)
 				if want := sortedPercentile(f, q); math.Abs(got-want) > 1e-12*(1+math.Abs(want)) {
