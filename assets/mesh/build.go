@@ -2,10 +2,21 @@ package mesh
 
 import (
 	"math"
+	"slices"
 	"sort"
 
 	"patina/render"
 )
+
+// room makes room for n more elements, doubling the capacity when it runs
+// out: append grows large slices by only about 1.25x, which would copy a
+// big mesh several times over while it is read.
+func room[T any](s []T, n int) []T {
+	if cap(s)-len(s) >= n {
+		return s
+	}
+	return slices.Grow(s, max(n, cap(s), 1024))
+}
 
 // faceSet collects the faces a reader parsed, before triangulation, so that
 // PLY files whose faces come before their vertices work and so that a file
@@ -28,10 +39,10 @@ func (fs *faceSet) added(n int, key int32, withKeys bool) {
 		}
 	}
 	if fs.lens != nil {
-		fs.lens = append(fs.lens, uint16(n))
+		fs.lens = append(room(fs.lens, 1), uint16(n))
 	}
 	if withKeys {
-		fs.keys = append(fs.keys, key)
+		fs.keys = append(room(fs.keys, 1), key)
 	}
 	fs.nfaces++
 	fs.ntris += n - 2
@@ -207,24 +218,33 @@ func vertexNormals(pos []float32, tris []uint32) []float32 {
 	nv := len(pos) / 3
 	acc := make([]float64, 3*nv)
 	for t := 0; t+2 < len(tris); t += 3 {
-		idx := [3]uint32{tris[t], tris[t+1], tris[t+2]}
-		cx, cy, cz := triCross(pos, idx[0], idx[1], idx[2])
-		l := math.Sqrt(cx*cx + cy*cy + cz*cz)
+		a, b, c := tris[t], tris[t+1], tris[t+2]
+		ax, ay, az := float64(pos[3*a]), float64(pos[3*a+1]), float64(pos[3*a+2])
+		bx, by, bz := float64(pos[3*b]), float64(pos[3*b+1]), float64(pos[3*b+2])
+		cx, cy, cz := float64(pos[3*c]), float64(pos[3*c+1]), float64(pos[3*c+2])
+		ux, uy, uz := bx-ax, by-ay, bz-az // a -> b
+		vx, vy, vz := cx-ax, cy-ay, cz-az // a -> c
+		wx, wy, wz := cx-bx, cy-by, cz-bz // b -> c
+		nx, ny, nz := uy*vz-uz*vy, uz*vx-ux*vz, ux*vy-uy*vx
+		l := math.Sqrt(nx*nx + ny*ny + nz*nz)
 		if l == 0 || math.IsInf(l, 0) {
 			continue
 		}
-		cx, cy, cz = cx/l, cy/l, cz/l
-		for k := 0; k < 3; k++ {
-			p, q, r := idx[k], idx[(k+1)%3], idx[(k+2)%3]
-			px, py, pz := float64(pos[3*p]), float64(pos[3*p+1]), float64(pos[3*p+2])
-			ux, uy, uz := float64(pos[3*q])-px, float64(pos[3*q+1])-py, float64(pos[3*q+2])-pz
-			vx, vy, vz := float64(pos[3*r])-px, float64(pos[3*r+1])-py, float64(pos[3*r+2])-pz
-			wx, wy, wz := uy*vz-uz*vy, uz*vx-ux*vz, ux*vy-uy*vx
-			ang := math.Atan2(math.Sqrt(wx*wx+wy*wy+wz*wz), ux*vx+uy*vy+uz*vz)
-			acc[3*p] += ang * cx
-			acc[3*p+1] += ang * cy
-			acc[3*p+2] += ang * cz
-		}
+		// |cross| is twice the area at every corner, so each angle is
+		// atan2(l, dot of its two edges); the third is pi minus the others.
+		angA := math.Atan2(l, ux*vx+uy*vy+uz*vz)
+		angB := math.Atan2(l, -(ux*wx + uy*wy + uz*wz))
+		angC := max(0, math.Pi-angA-angB)
+		nx, ny, nz = nx/l, ny/l, nz/l
+		acc[3*a] += angA * nx
+		acc[3*a+1] += angA * ny
+		acc[3*a+2] += angA * nz
+		acc[3*b] += angB * nx
+		acc[3*b+1] += angB * ny
+		acc[3*b+2] += angB * nz
+		acc[3*c] += angC * nx
+		acc[3*c+1] += angC * ny
+		acc[3*c+2] += angC * nz
 	}
 	out := make([]float32, 3*nv)
 	for i := 0; i < nv; i++ {

@@ -165,13 +165,13 @@ func (o *objReader) read() error {
 				return err
 			}
 			_ = n
-			o.tex = append(o.tex, float32(uv[0]), float32(uv[1]))
+			o.tex = append(room(o.tex, 2), float32(uv[0]), float32(uv[1]))
 		case "vn":
 			var nv [3]float64
 			if _, err := o.numbers(&t, "vn", nv[:], 3, 3); err != nil {
 				return err
 			}
-			o.nrm = append(o.nrm, float32(nv[0]), float32(nv[1]), float32(nv[2]))
+			o.nrm = append(room(o.nrm, 3), float32(nv[0]), float32(nv[1]), float32(nv[2]))
 		case "f":
 			if err := o.face(&t); err != nil {
 				return err
@@ -273,9 +273,9 @@ func (o *objReader) vertex(t *tokens) error {
 	if len(o.pos)/3+len(o.extraKeys) >= MaxVertices {
 		return o.errf("v", "more than %d vertices", MaxVertices)
 	}
-	o.pos = append(o.pos, float32(v[0]), float32(v[1]), float32(v[2]))
-	o.firstVT = append(o.firstVT, -2)
-	o.firstVN = append(o.firstVN, -2)
+	o.pos = append(room(o.pos, 3), float32(v[0]), float32(v[1]), float32(v[2]))
+	o.firstVT = append(room(o.firstVT, 1), -2)
+	o.firstVN = append(room(o.firstVN, 1), -2)
 	return nil
 }
 
@@ -376,9 +376,9 @@ func (o *objReader) face(t *tokens) error {
 	if o.faces.ntris+n-2 > MaxTriangles {
 		return o.errf("f", "more than %d triangles", MaxTriangles)
 	}
-	o.faces.corners = append(o.faces.corners, o.idx...)
+	o.faces.corners = append(room(o.faces.corners, len(o.idx)), o.idx...)
 	o.faces.added(n, o.mtl, true)
-	o.grpKeys = append(o.grpKeys, o.grp)
+	o.grpKeys = append(room(o.grpKeys, 1), o.grp)
 	return nil
 }
 

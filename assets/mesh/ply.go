@@ -97,6 +97,19 @@ type plyElem struct {
 	count int64
 	props []plyProp
 	line  int
+
+	// Set up by binaryElem for the fast paths.
+	active   []activeProp // vertex: the scalars the reader keeps, at fixed offsets
+	fixed    int          // record size when every property is a scalar, else 0
+	triFace  bool         // face: indices list first, then scalars only
+	restSize int          // face: bytes of the scalars after the list
+}
+
+// activeProp is a scalar the reader keeps, at a fixed offset in the record.
+type activeProp struct {
+	off  int
+	typ  plyType
+	role int
 }
 
 type plyReader struct {
@@ -365,6 +378,10 @@ func (p *plyReader) checkHeader(endLine int) error {
 	p.nv = int(vert.count)
 	if p.size >= 0 {
 		left := p.size - p.lr.off
+		slack := int64(0)
+		if p.format == "ascii" {
+			slack = 1 // the last line may lack its newline
+		}
 		var need int64
 		for _, e := range p.elems {
 			rec := int64(0)
@@ -376,7 +393,7 @@ func (p *plyReader) checkHeader(endLine int) error {
 				}
 			}
 			need += e.count * rec
-			if need > left {
+			if need > left+slack {
 				return p.headerErr(e.line, "element %s: %d records need at least %d bytes, but only %d bytes follow the header", e.name, e.count, e.count*rec, left)
 			}
 		}
@@ -592,14 +609,14 @@ func (p *plyReader) store(e *plyElem, rc *record, fail func(string, ...any) erro
 				return fail("coordinate %s is %v", c, rc.v[roleX+k])
 			}
 		}
-		p.pos = append(p.pos, float32(rc.v[roleX]), float32(rc.v[roleY]), float32(rc.v[roleZ]))
+		p.pos = append(room(p.pos, 3), float32(rc.v[roleX]), float32(rc.v[roleY]), float32(rc.v[roleZ]))
 		if p.hasN {
 			for k, c := range [3]string{"nx", "ny", "nz"} {
 				if f := float32(rc.v[roleNX+k]); math.IsNaN(float64(f)) || math.IsInf(float64(f), 0) {
 					return fail("normal %s is %v", c, rc.v[roleNX+k])
 				}
 			}
-			p.nrm = append(p.nrm, float32(rc.v[roleNX]), float32(rc.v[roleNY]), float32(rc.v[roleNZ]))
+			p.nrm = append(room(p.nrm, 3), float32(rc.v[roleNX]), float32(rc.v[roleNY]), float32(rc.v[roleNZ]))
 		}
 		if p.hasUV {
 			for k := 0; k < 2; k++ {
@@ -607,13 +624,13 @@ func (p *plyReader) store(e *plyElem, rc *record, fail func(string, ...any) erro
 					return fail("texture coordinate %d is %v", k, rc.v[roleU+k])
 				}
 			}
-			p.uv = append(p.uv, float32(rc.v[roleU]), float32(rc.v[roleV]))
+			p.uv = append(room(p.uv, 2), float32(rc.v[roleU]), float32(rc.v[roleV]))
 		}
 	case "face":
 		if p.hasSeg && (rc.seg < math.MinInt32 || rc.seg > math.MaxInt32) {
 			return fail("segment %d out of range (32-bit integer)", rc.seg)
 		}
-		p.faces.corners = append(p.faces.corners, p.idx...)
+		p.faces.corners = append(room(p.faces.corners, len(p.idx)), p.idx...)
 		p.faces.added(len(p.idx), int32(rc.seg), p.hasSeg)
 	}
 	return nil
@@ -655,45 +672,62 @@ func (p *plyReader) skip(n int64) error {
 	return nil
 }
 
-func (p *plyReader) decode(b []byte, t plyType) (int64, float64) {
-	var bo binary.ByteOrder = binary.LittleEndian
+func (p *plyReader) u16(b []byte) uint16 {
 	if p.big {
-		bo = binary.BigEndian
+		return binary.BigEndian.Uint16(b)
 	}
+	return binary.LittleEndian.Uint16(b)
+}
+
+func (p *plyReader) u32(b []byte) uint32 {
+	if p.big {
+		return binary.BigEndian.Uint32(b)
+	}
+	return binary.LittleEndian.Uint32(b)
+}
+
+func (p *plyReader) u64(b []byte) uint64 {
+	if p.big {
+		return binary.BigEndian.Uint64(b)
+	}
+	return binary.LittleEndian.Uint64(b)
+}
+
+// decode reads one binary scalar of type t as an integer (for integer
+// types) and as a float.
+func (p *plyReader) decode(b []byte, t plyType) (int64, float64) {
 	switch t {
-	case tInt8:
-		v := int64(int8(b[0]))
+	case tFloat32:
+		return 0, float64(math.Float32frombits(p.u32(b)))
+	case tInt32:
+		v := int64(int32(p.u32(b)))
+		return v, float64(v)
+	case tUint32:
+		v := int64(p.u32(b))
 		return v, float64(v)
 	case tUint8:
 		v := int64(b[0])
 		return v, float64(v)
+	case tInt8:
+		v := int64(int8(b[0]))
+		return v, float64(v)
 	case tInt16:
-		v := int64(int16(bo.Uint16(b)))
+		v := int64(int16(p.u16(b)))
 		return v, float64(v)
 	case tUint16:
-		v := int64(bo.Uint16(b))
+		v := int64(p.u16(b))
 		return v, float64(v)
-	case tInt32:
-		v := int64(int32(bo.Uint32(b)))
-		return v, float64(v)
-	case tUint32:
-		v := int64(bo.Uint32(b))
-		return v, float64(v)
+	case tFloat64:
+		return 0, math.Float64frombits(p.u64(b))
 	case tInt64:
-		v := int64(bo.Uint64(b))
+		v := int64(p.u64(b))
 		return v, float64(v)
 	case tUint64:
-		u := bo.Uint64(b)
+		u := p.u64(b)
 		if u > math.MaxInt64 {
 			return -1, float64(u) // out of every range check below
 		}
 		return int64(u), float64(u)
-	case tFloat32:
-		f := float64(math.Float32frombits(bo.Uint32(b)))
-		return 0, f
-	case tFloat64:
-		f := math.Float64frombits(bo.Uint64(b))
-		return 0, f
 	}
 	return 0, 0
 }
@@ -718,72 +752,224 @@ func (p *plyReader) binaryElem(e *plyElem) error {
 		}
 		return nil
 	}
-	var rc record
-	for r := 0; r < int(e.count); r++ {
-		at := p.lr.off
-		short := func() error {
-			return p.binErr(e, r, at, "unexpected end of data: the header declares %d %s records, the file ends inside record %d", e.count, e.name, r)
+	e.fixed, e.active, e.triFace, e.restSize = 0, nil, false, 0
+	if fixed {
+		e.fixed = recSize
+		off := 0
+		for _, pr := range e.props {
+			if pr.role != roleSkip {
+				e.active = append(e.active, activeProp{off, pr.typ, pr.role})
+			}
+			off += pr.minSize
 		}
-		p.idx = p.idx[:0]
-		for i := range e.props {
-			pr := &e.props[i]
-			if !pr.list {
-				b, err := p.take(pr.minSize)
-				if err == errShort {
-					return short()
-				} else if err != nil {
-					return fmt.Errorf("%s: %w", p.name, err)
+	}
+	if e.name == "face" && e.props[0].role == roleIndices {
+		e.triFace = true
+		for _, pr := range e.props[1:] {
+			if pr.list {
+				e.triFace = false
+			}
+			e.restSize += pr.minSize
+		}
+	}
+	var rc record
+	br := p.lr.br
+	for r := 0; r < int(e.count); {
+		// Fast path: decode whole records straight from what is buffered.
+		win, _ := br.Peek(br.Buffered())
+		used := 0
+		for r < int(e.count) {
+			n, err := p.windowRecord(e, win[used:], &rc, r, p.lr.off+int64(used))
+			if err != nil {
+				return err
+			}
+			if n == 0 {
+				break
+			}
+			used += n
+			r++
+		}
+		br.Discard(used)
+		p.lr.off += int64(used)
+		if used == 0 && r < int(e.count) {
+			// The record is not all buffered (or is bigger than the
+			// buffer, or the data ends): read it property by property.
+			if err := p.slowRecord(e, &rc, r); err != nil {
+				return err
+			}
+			r++
+		}
+	}
+	return nil
+}
+
+// windowRecord decodes record r from b when b holds all of it, and returns
+// its length, or 0 when b is too short.
+func (p *plyReader) windowRecord(e *plyElem, b []byte, rc *record, r int, at int64) (int, error) {
+	if e.fixed > 0 && e.name == "vertex" {
+		if len(b) < e.fixed {
+			return 0, nil
+		}
+		for _, a := range e.active {
+			_, rc.v[a.role] = p.decode(b[a.off:], a.typ)
+		}
+		if err := p.store(e, rc, func(f string, a ...any) error { return p.binErr(e, r, at, f, a...) }); err != nil {
+			return 0, err
+		}
+		return e.fixed, nil
+	}
+	if e.triFace && len(b) > 0 {
+		// The common face: a triangle, then the segment (if any).
+		pr := &e.props[0]
+		if n, _ := p.decode(b, pr.count); n == 3 {
+			isz := plyTypeSize[pr.typ]
+			size := pr.minSize + 3*isz + e.restSize
+			if len(b) < size {
+				return 0, nil
+			}
+			i := pr.minSize
+			var tri [3]uint32
+			for k := 0; k < 3; k++ {
+				v, _ := p.decode(b[i:], pr.typ)
+				if v < 0 || v >= int64(p.nv) {
+					return 0, p.binErr(e, r, at, "index %d out of range (vertex count %d)", v, p.nv)
 				}
-				if pr.role == roleSkip {
-					continue
+				tri[k] = uint32(v)
+				i += isz
+			}
+			if p.faces.ntris+1 > MaxTriangles {
+				return 0, p.binErr(e, r, at, "more than %d triangles", MaxTriangles)
+			}
+			for _, q := range e.props[1:] {
+				if q.role == roleSegment {
+					rc.seg, _ = p.decode(b[i:], q.typ)
 				}
-				iv, fv := p.decode(b, pr.typ)
+				i += q.minSize
+			}
+			if p.hasSeg && (rc.seg < math.MinInt32 || rc.seg > math.MaxInt32) {
+				return 0, p.binErr(e, r, at, "segment %d out of range (32-bit integer)", rc.seg)
+			}
+			p.faces.corners = append(room(p.faces.corners, 3), tri[0], tri[1], tri[2])
+			p.faces.added(3, int32(rc.seg), p.hasSeg)
+			return size, nil
+		}
+	}
+	i := 0
+	p.idx = p.idx[:0]
+	for k := range e.props {
+		pr := &e.props[k]
+		if i+pr.minSize > len(b) {
+			return 0, nil
+		}
+		if !pr.list {
+			if pr.role != roleSkip {
+				iv, fv := p.decode(b[i:], pr.typ)
 				rc.v[pr.role] = fv
 				rc.seg = iv
-				continue
 			}
+			i += pr.minSize
+			continue
+		}
+		n, _ := p.decode(b[i:], pr.count)
+		i += pr.minSize
+		isz := plyTypeSize[pr.typ]
+		if n < 0 || n > int64(len(b)) {
+			return 0, nil // the slow path reports it, or reads a long list
+		}
+		if pr.role != roleIndices {
+			if i+int(n)*isz > len(b) {
+				return 0, nil
+			}
+			i += int(n) * isz
+			continue
+		}
+		if err := p.checkPolygon(n, func(f string, a ...any) error { return p.binErr(e, r, at, f, a...) }); err != nil {
+			return 0, err
+		}
+		if i+int(n)*isz > len(b) {
+			return 0, nil
+		}
+		for j := 0; j < int(n); j++ {
+			v, _ := p.decode(b[i:], pr.typ)
+			i += isz
+			if v < 0 || v >= int64(p.nv) {
+				return 0, p.binErr(e, r, at, "index %d out of range (vertex count %d)", v, p.nv)
+			}
+			p.idx = append(p.idx, uint32(v))
+		}
+	}
+	if err := p.store(e, rc, func(f string, a ...any) error { return p.binErr(e, r, at, f, a...) }); err != nil {
+		return 0, err
+	}
+	return i, nil
+}
+
+// slowRecord reads record r property by property, filling the buffer as
+// needed and skipping lists of any length.
+func (p *plyReader) slowRecord(e *plyElem, rc *record, r int) error {
+	at := p.lr.off
+	short := func() error {
+		return p.binErr(e, r, at, "unexpected end of data: the header declares %d %s records, the file ends inside record %d", e.count, e.name, r)
+	}
+	p.idx = p.idx[:0]
+	for i := range e.props {
+		pr := &e.props[i]
+		if !pr.list {
 			b, err := p.take(pr.minSize)
 			if err == errShort {
 				return short()
 			} else if err != nil {
 				return fmt.Errorf("%s: %w", p.name, err)
 			}
-			n, _ := p.decode(b, pr.count)
-			if n < 0 {
-				return p.binErr(e, r, at, "list %s: negative count %d", pr.name, n)
-			}
-			isz := int64(plyTypeSize[pr.typ])
-			if pr.role != roleIndices {
-				if err := p.skip(n * isz); err == errShort {
-					if p.size >= 0 {
-						return p.binErr(e, r, at, "list %s: count %d needs %d bytes, but only %d bytes are left", pr.name, n, n*isz, p.size-p.lr.off)
-					}
-					return short()
-				} else if err != nil {
-					return fmt.Errorf("%s: %w", p.name, err)
-				}
+			if pr.role == roleSkip {
 				continue
 			}
-			if err := p.checkPolygon(n, func(f string, a ...any) error { return p.binErr(e, r, at, f, a...) }); err != nil {
-				return err
-			}
-			b, err = p.take(int(n * isz))
-			if err == errShort {
+			iv, fv := p.decode(b, pr.typ)
+			rc.v[pr.role] = fv
+			rc.seg = iv
+			continue
+		}
+		b, err := p.take(pr.minSize)
+		if err == errShort {
+			return short()
+		} else if err != nil {
+			return fmt.Errorf("%s: %w", p.name, err)
+		}
+		n, _ := p.decode(b, pr.count)
+		if n < 0 {
+			return p.binErr(e, r, at, "list %s: negative count %d", pr.name, n)
+		}
+		isz := int64(plyTypeSize[pr.typ])
+		if pr.role != roleIndices {
+			if err := p.skip(n * isz); err == errShort {
+				if p.size >= 0 {
+					return p.binErr(e, r, at, "list %s: count %d needs %d bytes, but only %d bytes are left", pr.name, n, n*isz, p.size-p.lr.off)
+				}
 				return short()
 			} else if err != nil {
 				return fmt.Errorf("%s: %w", p.name, err)
 			}
-			for k := 0; k < int(n); k++ {
-				v, _ := p.decode(b[k*int(isz):], pr.typ)
-				if v < 0 || v >= int64(p.nv) {
-					return p.binErr(e, r, at, "index %d out of range (vertex count %d)", v, p.nv)
-				}
-				p.idx = append(p.idx, uint32(v))
-			}
+			continue
 		}
-		if err := p.store(e, &rc, func(f string, a ...any) error { return p.binErr(e, r, at, f, a...) }); err != nil {
+		if err := p.checkPolygon(n, func(f string, a ...any) error { return p.binErr(e, r, at, f, a...) }); err != nil {
 			return err
 		}
+		b, err = p.take(int(n * isz))
+		if err == errShort {
+			return short()
+		} else if err != nil {
+			return fmt.Errorf("%s: %w", p.name, err)
+		}
+		for k := 0; k < int(n); k++ {
+			v, _ := p.decode(b[k*int(isz):], pr.typ)
+			if v < 0 || v >= int64(p.nv) {
+				return p.binErr(e, r, at, "index %d out of range (vertex count %d)", v, p.nv)
+			}
+			p.idx = append(p.idx, uint32(v))
+		}
+	}
+	if err := p.store(e, rc, func(f string, a ...any) error { return p.binErr(e, r, at, f, a...) }); err != nil {
+		return err
 	}
 	return nil
 }
