@@ -43,14 +43,3 @@ func BenchmarkEncode(b *testing.B) {
 		b.Fatal(s)
 	}
 }
-
-func BenchmarkEncodeCubeRoot(b *testing.B) {
-	b.ReportAllocs()
-	s := 0.0
-	for i := 0; i < b.N; i++ {
-		s += colour.LinearToSRGBFast(float64(i&4095) / 4096)
-	}
-	if s < 0 {
-		b.Fatal(s)
-	}
-}

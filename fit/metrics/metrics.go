@@ -587,11 +587,25 @@ func (f *jsonFloat) UnmarshalJSON(b []byte) error {
 	return nil
 }
 
+// jsonMean writes NaN (a mean over no pixels: an SSIM whose pixels all lie
+// in the excluded border) as null and reads null back as NaN.
+type jsonMean float64
+
+func (f jsonMean) MarshalJSON() ([]byte, error) { return jsonFloat(f).MarshalJSON() }
+
+func (f *jsonMean) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*f = jsonMean(math.NaN())
+		return nil
+	}
+	return (*jsonFloat)(f).UnmarshalJSON(b)
+}
+
 // statsJSON is the JSON form shared by Result and SegmentResult.
 type statsJSON struct {
 	PSNRLinear   jsonFloat `json:"psnr_linear"`
 	PSNRSRGB     jsonFloat `json:"psnr_srgb"`
-	SSIM         jsonFloat `json:"ssim"`
+	SSIM         jsonMean  `json:"ssim"`
 	DE2000Mean   float64   `json:"de2000_mean"`
 	DE2000Median float64   `json:"de2000_median"`
 	DE2000P95    float64   `json:"de2000_p95"`
@@ -612,7 +626,7 @@ type resultJSON struct {
 }
 
 func toStatsJSON(s Stats) statsJSON {
-	return statsJSON{jsonFloat(s.PSNRLinear), jsonFloat(s.PSNRSRGB), jsonFloat(s.SSIM),
+	return statsJSON{jsonFloat(s.PSNRLinear), jsonFloat(s.PSNRSRGB), jsonMean(s.SSIM),
 		s.DE2000Mean, s.DE2000Median, s.DE2000P95, s.DE2000Max, s.Pixels}
 }
 
@@ -634,7 +648,7 @@ func (s *SegmentResult) Stats() Stats {
 // MarshalJSON writes the keys psnr_linear, psnr_srgb, ssim, de2000_mean,
 // de2000_median, de2000_p95, de2000_max, pixels, linear_peak and segments
 // (each with index, name and the same metric keys). An infinite PSNR
-// (identical images) is written as null.
+// (identical images) and an SSIM over no pixels (NaN) are written as null.
 func (r Result) MarshalJSON() ([]byte, error) {
 	j := resultJSON{statsJSON: toStatsJSON(r.Stats()), Peak: r.Peak, Segments: []segmentJSON{}}
 	for _, s := range r.Segments {
@@ -643,7 +657,8 @@ func (r Result) MarshalJSON() ([]byte, error) {
 	return json.Marshal(j)
 }
 
-// UnmarshalJSON reads what MarshalJSON writes; null PSNR reads as +Inf.
+// UnmarshalJSON reads what MarshalJSON writes; a null PSNR reads as +Inf,
+// a null SSIM as NaN.
 func (r *Result) UnmarshalJSON(b []byte) error {
 	var j resultJSON
 	if err := json.Unmarshal(b, &j); err != nil {

@@ -61,25 +61,9 @@ func LinearRGBToLab(r, g, b float64) Lab { return XYZToLab(LinearRGBToXYZ(r, g, 
 // sRGB gamut give components below 0 or above 1, which the caller clips.
 func LabToLinearRGB(c Lab) (r, g, b float64) { return XYZToLinearRGB(LabToXYZ(c)) }
 
-// LinearToSRGBFast is LinearToSRGB (the IEC 61966-2-1 curve) evaluated
-// without math.Pow, for per-pixel loops: above the knee it uses
-// l^(1/2.4) = l^(5/12) = c * c^(1/4) with c the cube root of l. It agrees
-// with LinearToSRGB to about 1e-15 (srgb tests pin it) and is several times
-// faster.
-func LinearToSRGBFast(l float64) float64 {
-	if l < 0 {
-		return -LinearToSRGBFast(-l)
-	}
-	if l <= srgbEncodeKnee {
-		return l * srgbSlope
-	}
-	c := cbrt(l)
-	return (1+srgbOffset)*c*math.Sqrt(math.Sqrt(c)) - srgbOffset
-}
-
 // cbrt returns the cube root of x to within a few units in the last place,
-// faster than math.Cbrt, because the CIELAB and sRGB conversions of a full
-// image take millions of them. It starts from the exponent divided by three
+// faster than math.Cbrt, because the CIELAB conversion of a full image
+// takes millions of them. It starts from the exponent divided by three
 // (the bit trick of fdlibm's cbrt, which is good to about 3 percent) and
 // takes two Halley steps (cubic convergence: 3e-2, 3e-5, 1e-14). Zero,
 // subnormals, infinities and NaN go to math.Cbrt.

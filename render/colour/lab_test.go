@@ -99,15 +99,6 @@ func TestCbrtAgainstMath(t *testing.T) {
 	}
 }
 
-func TestLinearToSRGBFast(t *testing.T) {
-	for i := -1000; i <= 300000; i++ {
-		l := float64(i) / 200000
-		if d := math.Abs(LinearToSRGBFast(l) - LinearToSRGB(l)); d > 1e-14 {
-			t.Fatalf("LinearToSRGBFast(%v) differs from LinearToSRGB by %g", l, d)
-		}
-	}
-}
-
 // skimageLabScript prints, for the sRGB-encoded colours given as JSON in
 // argv[1], scikit-image's rgb2lab (illuminant D65, observer 2) and its
 // xyz2lab of the XYZ values in argv[2] rescaled to scikit-image's white.
