@@ -143,10 +143,6 @@ func decodePFM(r io.Reader, limit int) (*Image, *PFMInfo, error) {
 		return nil, nil, err
 	}
 	w, h, ch := info.Width, info.Height, info.Channels
-	var order binary.ByteOrder = binary.BigEndian
-	if info.LittleEndian {
-		order = binary.LittleEndian
-	}
 	rowBytes := int64(4 * ch * w)
 	rem := b.remaining()
 	pix := newPixBuffer(3*w*h, rem >= 0 && rem >= rowBytes*int64(h))
@@ -166,22 +162,47 @@ func decodePFM(r io.Reader, limit int) (*Image, *PFMInfo, error) {
 			src := b.buf[b.pos : b.pos+4*n]
 			b.pos += 4 * n
 			if ch == 3 {
-				dst := out[i : i+n]
-				for j := range dst {
-					dst[j] = math.Float32frombits(order.Uint32(src[4*j:]))
-				}
+				decodeSamples(out[i:i+n], src, info.LittleEndian)
 			} else {
-				dst := out[3*i : 3*(i+n)]
-				for j := 0; j < n; j++ {
-					v := math.Float32frombits(order.Uint32(src[4*j:]))
-					dst[3*j], dst[3*j+1], dst[3*j+2] = v, v, v
-				}
+				decodeGreySamples(out[3*i:3*(i+n)], src, info.LittleEndian)
 			}
 			i += n
 		}
 	}
 	flipRows(pix.pix, 3*w, h)
 	return &Image{Width: w, Height: h, Pix: pix.pix}, info, nil
+}
+
+// decodeSamples converts len(dst) float32 samples from src; the byte order
+// is a branch outside the loop so each loop inlines its conversion.
+func decodeSamples(dst []float32, src []byte, little bool) {
+	src = src[:4*len(dst)]
+	if little {
+		for j := range dst {
+			dst[j] = math.Float32frombits(binary.LittleEndian.Uint32(src[4*j:]))
+		}
+		return
+	}
+	for j := range dst {
+		dst[j] = math.Float32frombits(binary.BigEndian.Uint32(src[4*j:]))
+	}
+}
+
+// decodeGreySamples converts len(dst)/3 samples, each to three channels.
+func decodeGreySamples(dst []float32, src []byte, little bool) {
+	n := len(dst) / 3
+	src = src[:4*n]
+	for j := 0; j < n; j++ {
+		var u uint32
+		if little {
+			u = binary.LittleEndian.Uint32(src[4*j:])
+		} else {
+			u = binary.BigEndian.Uint32(src[4*j:])
+		}
+		v := math.Float32frombits(u)
+		d := dst[3*j : 3*j+3 : 3*j+3]
+		d[0], d[1], d[2] = v, v, v
+	}
 }
 
 func flipRows(p []float32, stride, h int) {

@@ -320,3 +320,33 @@ func TestRLEPathsAgree(t *testing.T) {
 		t.Errorf("zero-length literal file: %v %v %v", r, g, b)
 	}
 }
+
+// TestFloatToRGBEMatchesSetcolr compares the bit-level encoder with
+// Radiance's setcolr formula written out in float64 (frexp, then
+// floor(c * 256 / 2^e)) over values spanning the whole RGBE range.
+func TestFloatToRGBEMatchesSetcolr(t *testing.T) {
+	ref := func(c [3]float32) [4]byte {
+		v := max(float64(c[0]), float64(c[1]), float64(c[2]))
+		if v <= 1e-32 {
+			return [4]byte{}
+		}
+		_, e := math.Frexp(v)
+		e = min(e, 127)
+		var p [4]byte
+		for i := range c {
+			p[i] = byte(min(255, math.Floor(float64(c[i])*math.Ldexp(1, 8-e))))
+		}
+		p[3] = byte(e + 128)
+		return p
+	}
+	var c [3]float32
+	for i := 0; i < 50000; i++ {
+		for k := range c {
+			// log-uniform over 1e-34 .. 3e38
+			c[k] = float32(math.Pow(10, -34+72.5*float64((i*7919+k*104729)%100003)/100003))
+		}
+		if got, want := floatToRGBE(c[0], c[1], c[2]), ref(c); got != want {
+			t.Fatalf("%v: got %v, want %v", c, got, want)
+		}
+	}
+}

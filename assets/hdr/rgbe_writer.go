@@ -75,32 +75,36 @@ func EncodeRGBE(w io.Writer, m *Image) error {
 
 // floatToRGBE encodes one pixel the way Radiance's setcolr does: the
 // brightest channel v = f 2^e with f in [0.5, 1) sets the exponent byte
-// e + 128, and each channel's mantissa is floor(c 2^(8-e)).
+// e + 128, and each channel's mantissa is floor(c 2^(8-e)). It reads e from
+// the float32 exponent bits (v > 1e-32 is a normal number) and scales by an
+// exact power of two, so the result equals frexp and floor in float64.
 func floatToRGBE(r, g, b float32) [4]byte {
-	c := [3]float64{float64(r), float64(g), float64(b)}
-	v := 0.0
-	for i := range c {
-		if !(c[i] > 0) { // negative or NaN
-			c[i] = 0
-		}
-		v = max(v, c[i])
+	if !(r > 0) { // negative or NaN
+		r = 0
 	}
+	if !(g > 0) {
+		g = 0
+	}
+	if !(b > 0) {
+		b = 0
+	}
+	v := max(r, g, b)
 	if !(v > 1e-32) {
 		return [4]byte{}
 	}
-	var e int
-	if v >= 0x1p127 {
-		e = 127 // the exponent byte would overflow: saturate
-	} else {
-		_, e = math.Frexp(v)
+	e := 127 // values of 2^127 and more (+Inf too) would overflow the exponent byte: saturate
+	if v < 0x1p127 {
+		e = int(math.Float32bits(v)>>23&0xff) - 126
 	}
-	s := math.Ldexp(1, 8-e)
-	var p [4]byte
-	for i := range c {
-		p[i] = byte(min(255, math.Floor(c[i]*s)))
+	s := math.Float32frombits(uint32(8-e+127) << 23) // 2^(8-e), e in [-106, 127]
+	return [4]byte{mantissa(r * s), mantissa(g * s), mantissa(b * s), byte(e + 128)}
+}
+
+func mantissa(x float32) byte {
+	if x >= 255 {
+		return 255
 	}
-	p[3] = byte(e + 128)
-	return p
+	return byte(x) // truncation toward zero: floor, as x >= 0
 }
 
 // appendRLEPlane run-length encodes one channel of a scanline: runs of four
