@@ -224,6 +224,7 @@ func (d *decoder) vector(dst []float64, what string) func(*node, string) {
 			return
 		}
 		for i, v := range n.arr {
+			d.pos[index(path, i)] = v.off
 			if x, ok := d.number(v, index(path, i)); ok {
 				dst[i] = x
 			}

@@ -242,7 +242,51 @@ func decodeConfig(f *os.File, path, format string) (image.Config, error) {
 	if cfg.ColorModel == color.CMYKModel {
 		return cfg, &UnsupportedError{File: path, Msg: "CMYK JPEG: export the photo as RGB (sRGB) instead"}
 	}
+	if msg := tooShort(f, format, cfg); msg != "" {
+		return cfg, &FormatError{File: path, Msg: msg}
+	}
 	return cfg, nil
+}
+
+// Compression bounds used by tooShort. Deflate cannot compress better than
+// 1032:1 (from memory: its longest match, 258 bytes, costs at least 2 bits).
+// A JPEG spends at least one bit on every 8x8 block of every component in
+// its first DC scan, so it holds at most 512 pixels per byte; the bound
+// allows 4096, eight times more.
+const (
+	deflateMaxRatio   = 1032
+	jpegPixelsPerByte = 4096
+)
+
+// tooShort refuses a PNG or JPEG whose file is too small to hold the image
+// its header declares, before the decoder allocates the whole image: a
+// truncated or forged header then costs memory in proportion to the file,
+// not to its claim.
+func tooShort(f *os.File, format string, cfg image.Config) string {
+	st, err := f.Stat()
+	if err != nil {
+		return ""
+	}
+	size := st.Size()
+	pixels := int64(cfg.Width) * int64(cfg.Height)
+	switch format {
+	case "png":
+		var ihdr [26]byte
+		if _, err := f.ReadAt(ihdr[:], 0); err != nil {
+			return ""
+		}
+		depth := int64(ihdr[24])
+		channels := map[byte]int64{0: 1, 2: 3, 3: 1, 4: 2, 6: 4}[ihdr[25]]
+		raw := int64(cfg.Height) * (1 + (int64(cfg.Width)*channels*depth+7)/8)
+		if need := raw / deflateMaxRatio; size < need {
+			return fmt.Sprintf("truncated PNG file: the header declares %dx%d pixels (%d bytes of image data), which cannot fit in %d bytes even at deflate's best compression", cfg.Width, cfg.Height, raw, size)
+		}
+	case "jpeg":
+		if need := pixels / jpegPixelsPerByte; size < need {
+			return fmt.Sprintf("truncated JPEG file: the header declares %dx%d pixels, which cannot fit in %d bytes", cfg.Width, cfg.Height, size)
+		}
+	}
+	return ""
 }
 
 // decodeError turns a decoder's error into a typed error naming the file.

@@ -7,6 +7,7 @@ import (
 	"hash/crc32"
 	"image"
 	"image/color"
+	"image/jpeg"
 	"image/png"
 	"math"
 	"os"
@@ -344,5 +345,33 @@ func BenchmarkConvert(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// The too-short-for-its-header check must accept real files at their best
+// compression: uniform images encoded by image/png (best compression) and
+// image/jpeg.
+func TestUniformImagesPassSizeCheck(t *testing.T) {
+	r := image.Rect(0, 0, 3000, 2000)
+	grey := image.NewGray16(r)
+	var buf bytes.Buffer
+	enc := png.Encoder{CompressionLevel: png.BestCompression}
+	if err := enc.Encode(&buf, grey); err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	p := filepath.Join(dir, "flat.png")
+	os.WriteFile(p, buf.Bytes(), 0o644)
+	if _, err := Inspect(p); err != nil {
+		t.Errorf("uniform 16-bit PNG of %d bytes refused: %v", buf.Len(), err)
+	}
+	buf.Reset()
+	if err := jpeg.Encode(&buf, image.NewGray(r), &jpeg.Options{Quality: 10}); err != nil {
+		t.Fatal(err)
+	}
+	p = filepath.Join(dir, "flat.jpg")
+	os.WriteFile(p, buf.Bytes(), 0o644)
+	if _, err := Inspect(p); err != nil {
+		t.Errorf("uniform JPEG of %d bytes refused: %v", buf.Len(), err)
 	}
 }
