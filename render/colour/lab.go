@@ -24,8 +24,12 @@ func labF(t float64) float64 {
 	if t > LabEpsilon {
 		return cbrt(t)
 	}
-	return (LabKappa*t + 16) / 116
+	return (LabKappa*t + 16) * (1.0 / 116)
 }
+
+// Reciprocals of the white's X and Z, so that a conversion multiplies
+// instead of divides.
+var invXn, invZn = 1 / D65[0], 1 / D65[2]
 
 // labFInv inverts labF.
 func labFInv(f float64) float64 {
@@ -39,9 +43,9 @@ func labFInv(f float64) float64 {
 // CIELAB with the D65 reference white. Values outside the gamut of real
 // colours (negative XYZ, Y above 1) follow the same equations.
 func XYZToLab(x, y, z float64) Lab {
-	fx := labF(x / D65[0])
+	fx := labF(x * invXn)
 	fy := labF(y)
-	fz := labF(z / D65[2])
+	fz := labF(z * invZn)
 	return Lab{L: 116*fy - 16, A: 500 * (fx - fy), B: 200 * (fy - fz)}
 }
 
