@@ -153,7 +153,7 @@ func (v *validator) run() {
 	if c.Version != FormatVersion {
 		v.errf("patina_capture", "format version %d is not supported; this Patina reads version %d", c.Version, FormatVersion)
 	}
-	if _, ok := upAxes[c.Up]; !ok || c.Up == "" {
+	if _, ok := upAxes[c.Up]; !ok { // "" means the default, +z
 		v.errf("up", "up axis %q is not one of +x -x +y -y +z -z", c.Up)
 	}
 	v.segments()

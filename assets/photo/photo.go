@@ -64,6 +64,10 @@ const (
 	MaxDimension = 65535
 )
 
+// maxPixels is MaxPixels, lowered by the fuzz test so that its inputs stay
+// within the memory of a fuzzing worker.
+var maxPixels int64 = MaxPixels
+
 // DefaultSaturationThreshold is the fraction of the white level at or
 // above which a channel counts as saturated.
 const DefaultSaturationThreshold = 0.98
@@ -236,7 +240,7 @@ func decodeConfig(f *os.File, path, format string) (image.Config, error) {
 	if cfg.Width <= 0 || cfg.Height <= 0 {
 		return cfg, &FormatError{File: path, Msg: fmt.Sprintf("%s header declares %dx%d pixels", format, cfg.Width, cfg.Height)}
 	}
-	if cfg.Width > MaxDimension || cfg.Height > MaxDimension || int64(cfg.Width)*int64(cfg.Height) > MaxPixels {
+	if cfg.Width > MaxDimension || cfg.Height > MaxDimension || int64(cfg.Width)*int64(cfg.Height) > maxPixels {
 		return cfg, &LimitError{File: path, Width: cfg.Width, Height: cfg.Height}
 	}
 	if cfg.ColorModel == color.CMYKModel {
