@@ -9,8 +9,9 @@ import (
 // A render 5 % too bright against a photo of a mid-grey card, judged
 // against the FADGI 4 star level. By hand: the linear error 0.009 gives
 // 10 log10(1 / 0.009^2) = 40.92 dB; sRGB encodes 0.18 and 0.189 to 0.46137
-// and 0.47195 (about 39.5 dB; the float32 inputs move the last digit); L* is 49.496 and 50.570, so dE00 = dL* = 1.074
-// (S_L = 1 at L* = 50); SSIM of two flat fields is
+// and 0.47195 (about 39.5 dB; the float32 inputs move the last digit);
+// L* is 49.496 and 50.570, so dE00 = dL* = 1.074 (S_L = 1 at L* = 50);
+// SSIM of two flat fields is
 // 1 - (0.46137 - 0.47195)^2 / (0.46137^2 + 0.47195^2 + 0.01^2) = 0.9997.
 func ExampleCompare() {
 	const w, h = 32, 24
