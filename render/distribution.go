@@ -1,7 +1,5 @@
 package render
 
-import "sort"
-
 // Distribution1D is a piecewise-constant probability density on [0,1) built
 // from n non-negative function values, one per equal-width bin, sampled by
 // inverting its cumulative distribution (Physically Based Rendering, 3rd
@@ -49,14 +47,17 @@ func (d *Distribution1D) Len() int { return len(d.f) }
 // falls in.
 func (d *Distribution1D) Sample(u float64) (x, pdf float64, bin int) {
 	n := len(d.f)
-	// Largest i with cdf[i] <= u, kept inside [0, n-1].
-	i := sort.Search(n+1, func(k int) bool { return d.cdf[k] > u }) - 1
-	if i < 0 {
-		i = 0
+	// Largest i in [0, n-1] with cdf[i] <= u (binary search; cdf[0] = 0).
+	lo, hi := 0, n-1
+	for lo < hi {
+		mid := int(uint(lo+hi+1) >> 1)
+		if d.cdf[mid] <= u {
+			lo = mid
+		} else {
+			hi = mid - 1
+		}
 	}
-	if i > n-1 {
-		i = n - 1
-	}
+	i := lo
 	// Skip zero-width bins that the search can land on when u equals a
 	// repeated cdf value.
 	for i < n-1 && d.cdf[i+1] <= d.cdf[i] {

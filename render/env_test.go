@@ -1,6 +1,7 @@
 package render
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -240,5 +241,39 @@ func TestEnvironmentRejectsBadInput(t *testing.T) {
 	}
 	if _, err := NewConstantEnvironment(brdf.RGB{1, 1, 1}, EnvironmentOrientation{Scale: -1}); err == nil {
 		t.Fatal("negative scale accepted")
+	}
+}
+
+// TestStudioSeenThroughCamera looks from the origin, through a pinhole
+// camera, along the documented direction of the studio's key box (azimuth
+// 35, elevation 35 from +X towards +Y with +Z up) and along the same
+// direction with the map turned by -env-rotate 90 (azimuth 125): the centre
+// pixel must show the box's radiance, and a view 90 degrees away must not.
+func TestStudioSeenThroughCamera(t *testing.T) {
+	w, h, pix, err := Studio{Width: 512}.Map()
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := &Mesh{Positions: []float32{0, 0, -50, 1, 0, -50, 0, 1, -50}, Indices: []uint32{0, 1, 2}, Segments: []int32{0}}
+	sc := mustScene(t, m)
+	key := StudioBoxes[0]
+	for _, rot := range []float64{0, 90} {
+		env, err := NewEnvironmentMap(w, h, pix, EnvironmentOrientation{RotateDeg: rot})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, off := range []float64{0, 90} {
+			az, el := (key.AzimuthDeg+rot+off)*math.Pi/180, key.ElevationDeg*math.Pi/180
+			d := Vec3{math.Cos(el) * math.Cos(az), math.Cos(el) * math.Sin(az), math.Sin(el)}
+			cam := lookAt(Vec3{}, d, Vec3{0, 0, 1}, 9, 9, 2)
+			f, err := Render(context.Background(), sc, cam, &Lights{Environment: env}, []brdf.Params{lambert(0.5, 0.5, 0.5)}, Settings{SPP: 4})
+			if err != nil {
+				t.Fatal(err)
+			}
+			L, _ := f.Pixel(4, 4)
+			if lit := L[1] == float64(float32(key.Radiance[1])); lit != (off == 0) {
+				t.Errorf("rotation %v, offset %v: centre pixel %v (box radiance %v)", rot, off, L, key.Radiance)
+			}
+		}
 	}
 }
