@@ -256,13 +256,16 @@ func decodeConfig(f *os.File, path, format string) (image.Config, error) {
 // 1032:1 (from memory: its longest match, 258 bytes, costs at least 2 bits).
 // A JPEG spends at least one bit on every 8x8 block of every component in
 // its first DC scan, so it holds at most 512 pixels per byte; the bound
-// allows 4096, eight times more.
+// allows 4096, eight times more. TIFF's compressions are bounded by LZW's
+// (about 1365:1 when the 4096-entry table fills with ever longer strings),
+// deflate's and PackBits' (64:1); the bound allows 2048:1.
 const (
 	deflateMaxRatio   = 1032
 	jpegPixelsPerByte = 4096
+	tiffMaxRatio      = 2048
 )
 
-// tooShort refuses a PNG or JPEG whose file is too small to hold the image
+// tooShort refuses a PNG, JPEG or TIFF whose file is too small to hold the image
 // its header declares, before the decoder allocates the whole image: a
 // truncated or forged header then costs memory in proportion to the file,
 // not to its claim.
@@ -284,6 +287,20 @@ func tooShort(f *os.File, format string, cfg image.Config) string {
 		raw := int64(cfg.Height) * (1 + (int64(cfg.Width)*channels*depth+7)/8)
 		if need := raw / deflateMaxRatio; size < need {
 			return fmt.Sprintf("truncated PNG file: the header declares %dx%d pixels (%d bytes of image data), which cannot fit in %d bytes even at deflate's best compression", cfg.Width, cfg.Height, raw, size)
+		}
+	case "tiff":
+		bits := int64(1) // bilevel grey or a small palette
+		switch cfg.ColorModel {
+		case color.Gray16Model:
+			bits = 16
+		case color.RGBAModel, color.NRGBAModel:
+			bits = 24
+		case color.RGBA64Model, color.NRGBA64Model:
+			bits = 48
+		}
+		raw := pixels * bits / 8
+		if need := raw / tiffMaxRatio; size < need {
+			return fmt.Sprintf("truncated TIFF file: the header declares %dx%d pixels (at least %d bytes of image data), which cannot fit in %d bytes", cfg.Width, cfg.Height, raw, size)
 		}
 	case "jpeg":
 		if need := pixels / jpegPixelsPerByte; size < need {

@@ -14,6 +14,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"golang.org/x/image/tiff"
 )
 
 // iecDecode is the sRGB decoding of IEC 61966-2-1:1999, written out here
@@ -373,5 +375,37 @@ func TestUniformImagesPassSizeCheck(t *testing.T) {
 	os.WriteFile(p, buf.Bytes(), 0o644)
 	if _, err := Inspect(p); err != nil {
 		t.Errorf("uniform JPEG of %d bytes refused: %v", buf.Len(), err)
+	}
+	buf.Reset()
+	if err := tiff.Encode(&buf, image.NewRGBA64(r), &tiff.Options{Compression: tiff.Deflate, Predictor: true}); err != nil {
+		t.Fatal(err)
+	}
+	p = filepath.Join(dir, "flat.tif")
+	os.WriteFile(p, buf.Bytes(), 0o644)
+	if _, err := Inspect(p); err != nil {
+		t.Errorf("uniform TIFF of %d bytes refused: %v", buf.Len(), err)
+	}
+}
+
+// BenchmarkLoadPNG16 decodes a 2000x1500 16-bit RGB PNG file end to end
+// (image/png's inflate and filtering dominate; the conversion is the rest).
+func BenchmarkLoadPNG16(b *testing.B) {
+	r := image.Rect(0, 0, 2000, 1500)
+	img := image.NewRGBA64(r)
+	for i := range img.Pix {
+		img.Pix[i] = uint8(i * 7 % 251)
+	}
+	var buf bytes.Buffer
+	if err := (&png.Encoder{CompressionLevel: png.BestSpeed}).Encode(&buf, img); err != nil {
+		b.Fatal(err)
+	}
+	p := filepath.Join(b.TempDir(), "b.png")
+	os.WriteFile(p, buf.Bytes(), 0o644)
+	b.ReportAllocs()
+	b.SetBytes(int64(r.Dx() * r.Dy()))
+	for b.Loop() {
+		if _, err := Load(p, Decoding{Encoding: "linear"}); err != nil {
+			b.Fatal(err)
+		}
 	}
 }
