@@ -227,6 +227,13 @@ func TestLoadErrors(t *testing.T) {
 	}
 }
 
+func TestByteOrderMark(t *testing.T) {
+	data := append([]byte("\xef\xbb\xbf"), mustRead(t, fixtureCaptureFile)...)
+	if _, err := Parse(data, filepath.Join(fixtureDir, "x.json")); err != nil {
+		t.Error(err)
+	}
+}
+
 func TestUnknownFieldWarning(t *testing.T) {
 	src := strings.Replace(string(mustRead(t, fixtureCaptureFile)), `"use": "holdout"`, `"use": "holdout", "exposre": 3`, 1)
 	c, err := Parse([]byte(src), filepath.Join(fixtureDir, "x.json"))

@@ -1,6 +1,7 @@
 package capture
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -56,6 +57,8 @@ func Parse(data []byte, path string) (*Capture, error) {
 	if len(data) > MaxFileSize {
 		return nil, &Error{File: path, Problems: []Problem{{Msg: fmt.Sprintf("file is %d bytes; a capture file may have at most %d", len(data), MaxFileSize), Severity: SevError}}}
 	}
+	// A byte-order mark, as some editors write, is not part of the JSON.
+	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	li := newLineIndex(data)
 	root, err := parseTree(data)
 	if err != nil {
