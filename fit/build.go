@@ -11,14 +11,17 @@ import (
 
 	"patina/assets/capture"
 	"patina/assets/mesh"
+	"patina/assets/photo"
 	"patina/brdf"
 	"patina/render"
 )
 
 // Rejections counts the pixels left out of the fit, by reason. A pixel of a
 // photo counts once, under the first reason that applies, in this order.
-// Shadow is counted among the pixels drawn by the sampler only (casting a
-// shadow ray for every pixel of every photo would cost more than the fit).
+// Dark pixels are split between Shadow and UnderExposed by shadow rays; when
+// a photo has more than maxDarkTests of them the split is estimated from an
+// evenly spread sample (the sum stays exact). Among the pixels drawn for the
+// fit, those whose every light turns out occluded count as Shadow too.
 type Rejections struct {
 	// Border: within Options.BorderPixels of a silhouette or of another
 	// segment, where a small registration error mixes surfaces.
@@ -180,6 +183,29 @@ func buildObservations(ctx context.Context, c *capture.Capture, m *render.Mesh, 
 		}
 	}
 	report()
+	// One goroutine decodes the next photo while the current one is used:
+	// the unbuffered hand-over keeps at most two decoded photos in memory
+	// whatever the number of photos.
+	var order []int
+	for _, ci := range camOrder {
+		order = append(order, byCam[ci]...)
+	}
+	decoded := make(chan decodedPhoto)
+	stop := make(chan struct{})
+	defer close(stop)
+	go func() {
+		for _, pi := range order {
+			d := decodePhoto(c, pi)
+			select {
+			case decoded <- d:
+			case <-stop:
+				return
+			}
+			if d.err != nil {
+				return
+			}
+		}
+	}()
 	for _, ci := range camOrder {
 		cam := pinhole(&c.Cameras[ci])
 		view, err := castView(ctx, scene, cam, labelSeg, opts)
@@ -190,7 +216,11 @@ func buildObservations(ctx context.Context, c *capture.Capture, m *render.Mesh, 
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
-			if err := addPhoto(ctx, c, pi, ci, view, scene, offset, set, opts); err != nil {
+			d := <-decoded
+			if d.err != nil {
+				return nil, d.err
+			}
+			if err := addPhoto(ctx, c, pi, ci, &d, view, scene, offset, set, opts); err != nil {
 				return nil, err
 			}
 			done++
@@ -325,27 +355,48 @@ type photoLight struct {
 	occluding bool
 }
 
+// maxDarkTests bounds the shadow rays cast per photo to classify dark
+// pixels for the rejection counts.
+const maxDarkTests = 4096
+
 // pick is one drawn pixel of one segment.
 type pick struct {
 	seg int32
 	pix int32
 }
 
-func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, v *view, scene *render.Scene, offset float64, set *ObservationSet, opts Options) error {
-	ph := &c.Photos[pi]
+// decodedPhoto is a photo read ahead of its use.
+type decodedPhoto struct {
+	img      *photo.Image
+	mask     []bool
+	exposure float64
+	err      error
+}
+
+func decodePhoto(c *capture.Capture, pi int) decodedPhoto {
 	dec, err := c.Decoding(pi)
 	if err != nil {
-		return fmt.Errorf("%s: photos[%d]: %w", c.Path, pi, err)
+		return decodedPhoto{err: fmt.Errorf("%s: photos[%d]: %w", c.Path, pi, err)}
 	}
 	img, err := c.LoadPhoto(pi)
 	if err != nil {
-		return err
+		return decodedPhoto{err: err}
 	}
-	w, h := v.cam.Width, v.cam.Height
-	mask, err := c.LoadMask(pi, w, h)
+	mask, err := c.LoadMask(pi, img.Width, img.Height)
 	if err != nil {
-		return err
+		return decodedPhoto{err: err}
 	}
+	e := dec.Exposure
+	if e == 0 {
+		e = 1
+	}
+	return decodedPhoto{img: img, mask: mask, exposure: e}
+}
+
+func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPhoto, v *view, scene *render.Scene, offset float64, set *ObservationSet, opts Options) error {
+	ph := &c.Photos[pi]
+	img, mask := d.img, d.mask
+	w, h := v.cam.Width, v.cam.Height
 	var lights []photoLight
 	for k, id := range ph.Lights {
 		l, _ := c.LightByID(id)
@@ -364,18 +415,15 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, v *view, scen
 		}
 		lights = append(lights, pl)
 	}
-	expo := dec.Exposure
-	if expo == 0 {
-		expo = 1
-	}
 	floor := opts.NoiseFloor
 	if floor <= 0 {
-		floor = 0.002 * expo
+		floor = 0.002 * d.exposure
 	}
 
 	var rej Rejections
 	nseg := len(set.Segments)
 	cands := make([][]int32, nseg)
+	var dark []int32
 	for i := 0; i < w*h; i++ {
 		switch v.status[i] {
 		case viewMiss:
@@ -404,17 +452,29 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, v *view, scen
 		}
 		px := img.Pix[3*i : 3*i+3]
 		if (float64(px[0])+float64(px[1])+float64(px[2]))/3 < floor {
-			// A dark pixel is either in the cast shadow of the photo's
-			// lights or simply under-exposed; a shadow ray tells which.
-			if inShadow(v, i, lights, scene, offset) {
-				rej.Shadow++
-			} else {
-				rej.UnderExposed++
-			}
+			dark = append(dark, int32(i))
 			continue
 		}
 		s := v.seg[i]
 		cands[s] = append(cands[s], int32(i))
+	}
+
+	// A dark pixel is either in the cast shadow of the photo's lights or
+	// simply under-exposed; a shadow ray tells which. When there are many,
+	// an evenly spread sample of maxDarkTests is tested and the counts are
+	// scaled to all of them (their sum stays exact).
+	if nd := len(dark); nd > 0 {
+		step := max(1, (nd+maxDarkTests-1)/maxDarkTests)
+		tested, shadowed := 0, 0
+		for j := step / 2; j < nd; j += step {
+			tested++
+			if inShadow(v, int(dark[j]), lights, scene, offset) {
+				shadowed++
+			}
+		}
+		sh := int(math.Round(float64(nd) * float64(shadowed) / float64(tested)))
+		rej.Shadow += sh
+		rej.UnderExposed += nd - sh
 	}
 
 	// Stratified draw per segment: the candidates (in raster order, so

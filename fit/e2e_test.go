@@ -164,7 +164,7 @@ func e2eRender(cam e2eCam, L e2eLight, exposure float64) []float64 {
 }
 
 // writeE2ECapture writes the whole capture into dir and returns its path.
-func writeE2ECapture(t *testing.T, dir string) string {
+func writeE2ECapture(t testing.TB, dir string) string {
 	t.Helper()
 	// Mesh: each face has its own four vertices carrying the face normal,
 	// so the shading normals are exact.
@@ -275,7 +275,7 @@ func writeE2ECapture(t *testing.T, dir string) string {
 	return path
 }
 
-func must(t *testing.T, err error) {
+func must(t testing.TB, err error) {
 	t.Helper()
 	if err != nil {
 		t.Fatal(err)
@@ -355,5 +355,40 @@ func TestRunEndToEnd(t *testing.T) {
 		if !strings.Contains(string(data), key) {
 			t.Errorf("materials file lacks %s:\n%s", key, data)
 		}
+	}
+}
+
+// BenchmarkBuildObservations reads 3, 6 and 12 photos of the box-and-card
+// capture (160x120, two cameras' worth and more): the time per photo should
+// stay flat as photos are added (memory does not grow with them: one photo
+// is decoded at a time), and it reports CPU time per photo.
+func BenchmarkBuildObservations(b *testing.B) {
+	dir := b.TempDir()
+	path := writeE2ECapture(b, dir)
+	for _, n := range []int{3, 6, 12} {
+		b.Run(fmt.Sprintf("photos=%d", n), func(b *testing.B) {
+			c, err := capture.Load(path)
+			must(b, err)
+			k := 0
+			for i := range c.Photos {
+				if c.Photos[i].Use == capture.UseFit {
+					if k >= n {
+						c.Photos[i].Use = capture.UseIgnore
+					}
+					k++
+				}
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			cpu0 := processCPU()
+			for i := 0; i < b.N; i++ {
+				if _, err := BuildObservations(context.Background(), c, Options{Threads: 2}); err != nil {
+					b.Fatal(err)
+				}
+			}
+			cpu := processCPU() - cpu0
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*n)/1e6, "ms/photo")
+			b.ReportMetric(float64(cpu.Nanoseconds())/float64(b.N*n)/1e6, "cpu-ms/photo")
+		})
 	}
 }

@@ -40,7 +40,7 @@ type objective struct {
 	np    int
 	eps   float64
 	delta float64
-	logO  [3][]float32 // log(max(o,0)+eps), precomputed
+	invO  [3][]float32 // 1/(max(o,0)+eps), precomputed
 
 	nchunks  int
 	partLoss []float64
@@ -73,9 +73,9 @@ func newObjective(obs *Observations, kind brdf.Kind, eps, delta float64, threads
 	for c, src := range [][]float32{obs.R, obs.G, obs.B} {
 		dst := make([]float32, n)
 		for i, v := range src {
-			dst[i] = float32(math.Log(math.Max(float64(v), 0) + eps))
+			dst[i] = float32(1 / (math.Max(float64(v), 0) + eps))
 		}
-		o.logO[c] = dst
+		o.invO[c] = dst
 	}
 	if threads > o.nchunks {
 		threads = o.nchunks
@@ -153,6 +153,21 @@ func (o *objective) eval(p *brdf.Params, grad []float64) float64 {
 	return loss * norm
 }
 
+// logRatio returns log(y). Near the optimum y = (m+eps)/(o+eps) is close to
+// 1, where the series log y = 2 atanh(z) = 2 (z + z^3/3 + z^5/5 + ...),
+// z = (y-1)/(y+1), converges fast: for y in [0.8, 1.25], |z| <= 1/9 and six
+// terms leave an error below 1e-13. It is several times cheaper than
+// math.Log, which the objective would otherwise call three times per
+// observation.
+func logRatio(y float64) float64 {
+	if y < 0.8 || y > 1.25 {
+		return math.Log(y)
+	}
+	z := (y - 1) / (y + 1)
+	z2 := z * z
+	return 2 * z * (1 + z2*(1.0/3+z2*(1.0/5+z2*(1.0/7+z2*(1.0/9+z2*(1.0/11))))))
+}
+
 // chunk evaluates the unnormalised loss sum (and gradient sum) of one chunk.
 func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxParams]float64) float64 {
 	ob := o.obs
@@ -190,7 +205,7 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 		}
 		for ch := 0; ch < 3; ch++ {
 			me := m[ch] + eps
-			r := math.Log(me) - float64(o.logO[ch][i])
+			r := logRatio(me * float64(o.invO[ch][i]))
 			q := r * inv
 			sq := math.Sqrt(1 + q*q)
 			loss += d2 * (sq - 1)
