@@ -125,7 +125,9 @@ func DecodePFMConfig(r io.Reader) (*PFMInfo, error) {
 // DecodePFM decodes a PFM file, colour or grey (grey samples are copied to
 // all three channels), in the byte order the scale's sign gives, with the
 // rows put back top to bottom. Samples are stored as they are, NaN and
-// infinities included (see Image.CheckFinite).
+// infinities included (see Image.CheckFinite). Header fields may be
+// separated by any whitespace; exactly one whitespace byte ends the scale.
+// Comments are not part of the format and are refused.
 func DecodePFM(r io.Reader) (*Image, error) {
 	m, _, err := DecodePFMInfo(r)
 	return m, err
