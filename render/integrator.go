@@ -174,14 +174,16 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 		spp1 := min(max(1, 2*spp0), s.SPP)
 		var next atomic.Int64
 		var wg sync.WaitGroup
-		var failed atomic.Value
+		var errMu sync.Mutex
+		var failed error
+		var stop atomic.Bool
 		for t := 0; t < min(s.Threads, nTiles); t++ {
 			wg.Add(1)
 			go func() {
 				defer wg.Done()
 				var smp Sampler
 				for {
-					if ctx.Err() != nil {
+					if ctx.Err() != nil || stop.Load() {
 						return
 					}
 					k := int(next.Add(1) - 1)
@@ -191,7 +193,12 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 					x0, y0 := (k%tilesX)*ts, (k/tilesX)*ts
 					x1, y1 := min(x0+ts, w), min(y0+ts, h)
 					if err := it.tile(ctx, film, &smp, x0, y0, x1, y1, spp0, spp1); err != nil {
-						failed.CompareAndSwap(nil, err)
+						stop.Store(true)
+						errMu.Lock()
+						if failed == nil {
+							failed = err
+						}
+						errMu.Unlock()
 						return
 					}
 					if s.OnProgress != nil {
@@ -204,8 +211,8 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 			}()
 		}
 		wg.Wait()
-		if e := failed.Load(); e != nil {
-			return nil, e.(error)
+		if failed != nil {
+			return nil, failed
 		}
 		if err := ctx.Err(); err != nil {
 			return film, err
