@@ -392,3 +392,82 @@ func BenchmarkBuildObservations(b *testing.B) {
 		})
 	}
 }
+
+// TestRunDeterministic: the same seed gives the same result, bit for bit,
+// on one thread and on three.
+func TestRunDeterministic(t *testing.T) {
+	dir := t.TempDir()
+	c, err := capture.Load(writeE2ECapture(t, dir))
+	must(t, err)
+	var ref *Result
+	for _, th := range []int{1, 3} {
+		res, err := Run(context.Background(), c, Options{Samples: 300, Seed: 9, Threads: th})
+		must(t, err)
+		if ref == nil {
+			ref = res
+			continue
+		}
+		if res.Rejections != ref.Rejections {
+			t.Errorf("threads %d: rejections %+v, threads 1: %+v", th, res.Rejections, ref.Rejections)
+		}
+		if res.Scale.Value != ref.Scale.Value {
+			t.Errorf("threads %d: scale %v != %v", th, res.Scale.Value, ref.Scale.Value)
+		}
+		for i := range res.Segments {
+			a, b := res.Segments[i], ref.Segments[i]
+			if a.Params != b.Params || a.Sigma != b.Sigma || a.Observations != b.Observations || a.Passes != b.Passes {
+				t.Errorf("threads %d: segment %s: %+v vs %+v", th, a.Name, a.Params, b.Params)
+			}
+		}
+	}
+}
+
+// TestRunCancel: a context cancelled during the fit stops Run with the
+// context's error.
+func TestRunCancel(t *testing.T) {
+	dir := t.TempDir()
+	c, err := capture.Load(writeE2ECapture(t, dir))
+	must(t, err)
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	passes := 0
+	_, err = Run(ctx, c, Options{Samples: 300, Progress: func(p Progress) {
+		if p.Stage == StageFit {
+			passes++
+			if passes == 3 {
+				cancel()
+			}
+		}
+	}})
+	if err != context.Canceled {
+		t.Fatalf("Run after cancel: %v, want context.Canceled", err)
+	}
+	if passes > 5 {
+		t.Errorf("%d passes reported after cancelling at the third", passes-3)
+	}
+	// And during the observations.
+	ctx2, cancel2 := context.WithCancel(context.Background())
+	_, err = Run(ctx2, c, Options{Progress: func(p Progress) {
+		if p.Stage == StageObservations && p.Photo == 2 {
+			cancel2()
+		}
+	}})
+	if err != context.Canceled {
+		t.Fatalf("Run cancelled while reading photos: %v", err)
+	}
+}
+
+// TestRunNoFitPhotos: a capture without fitting photos is refused with an
+// error naming the file.
+func TestRunNoFitPhotos(t *testing.T) {
+	dir := t.TempDir()
+	c, err := capture.Load(writeE2ECapture(t, dir))
+	must(t, err)
+	for i := range c.Photos {
+		c.Photos[i].Use = capture.UseHoldout
+	}
+	_, err = Run(context.Background(), c, Options{})
+	if err == nil || !strings.Contains(err.Error(), "capture.json") || !strings.Contains(err.Error(), `"fit"`) {
+		t.Fatalf("error %v, want one naming the capture and the missing fit photos", err)
+	}
+}
