@@ -23,7 +23,10 @@ const MaxFilmPixels = 32 << 20
 type Film struct {
 	Width, Height int
 	// SPP is the number of samples every pixel has received so far.
-	SPP   int
+	SPP int
+	// Rays counts the rays traced so far (closest-hit and shadow queries),
+	// for throughput figures.
+	Rays  int64
 	sum   []float64 // 3 per pixel: sum of radiance
 	sumSq []float64 // 3 per pixel: sum of squared radiance
 	alpha []float64 // 1 per pixel: sum of coverage

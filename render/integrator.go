@@ -215,9 +215,11 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 			return nil, failed
 		}
 		if err := ctx.Err(); err != nil {
+			film.Rays = it.rays.Load()
 			return film, err
 		}
 		film.SPP = spp1
+		film.Rays = it.rays.Load()
 		if s.OnPass != nil {
 			s.OnPass(Pass{Index: pass, SPP: spp1, Film: film, Elapsed: time.Since(start)})
 		}
@@ -235,11 +237,14 @@ type integrator struct {
 	env    *Environment
 	mats   []brdf.Params
 	s      Settings
+	rays   atomic.Int64 // rays traced (closest-hit and shadow)
 }
 
 // tile renders samples [spp0, spp1) of every pixel of a tile, in sample
 // order per pixel, so the sums are independent of scheduling.
 func (it *integrator) tile(ctx context.Context, film *Film, smp *Sampler, x0, y0, x1, y1, spp0, spp1 int) error {
+	var rays int64
+	defer func() { it.rays.Add(rays) }()
 	for y := y0; y < y1; y++ {
 		if ctx.Err() != nil {
 			return nil
@@ -248,7 +253,7 @@ func (it *integrator) tile(ctx context.Context, film *Film, smp *Sampler, x0, y0
 			i := y*film.Width + x
 			for k := spp0; k < spp1; k++ {
 				smp.Start(it.s.Seed, x, y, uint32(k))
-				L, a, err := it.sample(smp, x, y)
+				L, a, err := it.sample(smp, x, y, &rays)
 				if err != nil {
 					return err
 				}
@@ -274,7 +279,7 @@ func powerHeuristic(pf, pg float64) float64 {
 
 // sample traces one camera path through pixel (x, y) and returns its
 // radiance and coverage.
-func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64, err error) {
+func (it *integrator) sample(smp *Sampler, x, y int, rays *int64) (L brdf.RGB, alpha float64, err error) {
 	// Box filter: a uniform position inside the pixel.
 	fx, fy := smp.Get2D()
 	ray, ok := it.cam.Ray(float64(x)+fx-0.5, float64(y)+fy-0.5)
@@ -286,6 +291,7 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 	prevPdf := math.Inf(1) // BRDF density of the last bounce; +Inf for the camera ray
 	var h Hit
 	for depth := 0; ; depth++ {
+		*rays++
 		hit := it.sc.Intersect(ray, math.Inf(1), &h)
 		tmax := math.Inf(1)
 		if hit {
@@ -402,6 +408,7 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 			if c[0] <= 0 && c[1] <= 0 && c[2] <= 0 {
 				continue
 			}
+			*rays++
 			if it.sc.Occluded(Ray{O: p, D: ls.wi}, shadowDistance(ls.dist)) {
 				continue
 			}
@@ -421,9 +428,12 @@ func (it *integrator) sample(smp *Sampler, x, y int) (L brdf.RGB, alpha float64,
 							wgt *= powerHeuristic(pdf, it.pdf(mat, wo, wi))
 						}
 						c := brdf.RGB{f[0] * Le[0] * wgt, f[1] * Le[1] * wgt, f[2] * Le[2] * wgt}
-						if (c[0] > 0 || c[1] > 0 || c[2] > 0) && !it.sc.Occluded(Ray{O: p, D: d}, math.Inf(1)) {
-							for j := 0; j < 3; j++ {
-								L[j] += beta[j] * c[j]
+						if c[0] > 0 || c[1] > 0 || c[2] > 0 {
+							*rays++
+							if !it.sc.Occluded(Ray{O: p, D: d}, math.Inf(1)) {
+								for j := 0; j < 3; j++ {
+									L[j] += beta[j] * c[j]
+								}
 							}
 						}
 					}

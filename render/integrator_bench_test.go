@@ -122,15 +122,21 @@ func benchPaths(b *testing.B, s benchScene, st Settings) {
 	w, h := s.cam.Size()
 	b.ResetTimer()
 	c0 := cpuSeconds()
+	var rays int64
 	for i := 0; i < b.N; i++ {
 		st.Seed = uint64(i)
-		if _, err := Render(context.Background(), s.sc, s.cam, s.lights, s.mats, st); err != nil {
+		f, err := Render(context.Background(), s.sc, s.cam, s.lights, s.mats, st)
+		if err != nil {
 			b.Fatal(err)
 		}
+		rays += f.Rays
 	}
+	cpu := cpuSeconds() - c0
 	paths := float64(w*h*st.SPP) * float64(b.N)
 	b.ReportMetric(paths/b.Elapsed().Seconds(), "paths/s")
-	b.ReportMetric(paths/(cpuSeconds()-c0), "paths/cpu-s")
+	b.ReportMetric(paths/cpu, "paths/cpu-s")
+	b.ReportMetric(float64(rays)/cpu/1e6, "Mrays/cpu-s")
+	b.ReportMetric(float64(rays)/paths, "rays/path")
 }
 
 func BenchmarkPathsBunnyStudio(b *testing.B) {
@@ -255,4 +261,48 @@ func BenchmarkTimeToErrorBunnyStudioBRDF(b *testing.B) {
 
 func BenchmarkTimeToError1MPointLight(b *testing.B) {
 	timeToError(b, bigPointLight(b), Settings{}, "big")
+}
+
+// BenchmarkRawRays1M traces the same kinds of rays as the path tracer on
+// the 1M-triangle scene without any shading: per pixel a camera ray, a
+// shadow ray to the light and one diffuse bounce ray. Comparing its
+// Mrays/cpu-s with BenchmarkPaths1MPointLight's gives the integrator's
+// overhead over bare ray queries.
+func BenchmarkRawRays1M(b *testing.B) {
+	s := bigPointLight(b)
+	w, h := s.cam.Size()
+	light := s.lights.Lights[0].Position
+	b.ReportAllocs()
+	b.ResetTimer()
+	c0 := cpuSeconds()
+	var rays int64
+	var smp Sampler
+	var hit Hit
+	for i := 0; i < b.N; i++ {
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				r, _ := s.cam.Ray(float64(x), float64(y))
+				rays++
+				if !s.sc.Intersect(r, math.Inf(1), &hit) {
+					continue
+				}
+				ng := hit.Ng
+				if ng.Dot(r.D) > 0 {
+					ng = ng.Neg()
+				}
+				p := offsetPoint(hit.P, ng)
+				d := light.Sub(p)
+				dist := d.Len()
+				rays += 2
+				s.sc.Occluded(Ray{O: p, D: d.Mul(1 / dist)}, dist)
+				smp.Start(uint64(i), x, y, 0)
+				u0, u1 := smp.Get2D()
+				rr := math.Sqrt(u0)
+				fr := NewFrame(ng)
+				dir := fr.ToWorld(brdf.Vec{X: rr * math.Cos(2*math.Pi*u1), Y: rr * math.Sin(2*math.Pi*u1), Z: math.Sqrt(1 - u0)})
+				s.sc.Intersect(Ray{O: p, D: dir}, math.Inf(1), &hit)
+			}
+		}
+	}
+	b.ReportMetric(float64(rays)/(cpuSeconds()-c0)/1e6, "Mrays/cpu-s")
 }
