@@ -59,7 +59,7 @@ func ReadOBJ(r io.Reader, name string) (*render.Mesh, *Report, error) {
 func readOBJ(r io.Reader, name string) (*render.Mesh, *Report, error) {
 	o := &objReader{name: name, rep: &Report{Format: "obj"}, nameIdx: map[string]int32{}}
 	o.lr.br = bufio.NewReaderSize(r, 1<<16)
-	o.mtl = o.intern("default")
+	o.mtl = o.intern([]byte("default"))
 	o.grp = o.mtl
 	if err := o.read(); err != nil {
 		return nil, nil, err
@@ -67,10 +67,13 @@ func readOBJ(r io.Reader, name string) (*render.Mesh, *Report, error) {
 	return o.finish()
 }
 
-func (o *objReader) intern(s string) int32 {
-	if i, ok := o.nameIdx[s]; ok {
+// intern returns the index of a segment name; a name seen before costs no
+// allocation.
+func (o *objReader) intern(b []byte) int32 {
+	if i, ok := o.nameIdx[string(b)]; ok {
 		return i
 	}
+	s := string(b)
 	i := int32(len(o.names))
 	o.names = append(o.names, s)
 	o.nameIdx[s] = i
@@ -185,7 +188,7 @@ func (o *objReader) read() error {
 			if len(rest) == 0 {
 				rest = []byte("default")
 			}
-			o.grp = o.intern(string(joinFields(rest)))
+			o.grp = o.intern(joinFields(rest))
 		case "usemtl":
 			rest := t.rest()
 			if len(rest) == 0 {
@@ -194,7 +197,7 @@ func (o *objReader) read() error {
 			if !isText(rest) {
 				return o.errf("usemtl", "material name is not UTF-8 text: %s", quote(rest))
 			}
-			o.mtl = o.intern(string(joinFields(rest)))
+			o.mtl = o.intern(joinFields(rest))
 			o.anyMtl = true
 		case "o", "mtllib", "s":
 			// Read and not needed: objects do not define segments, material
