@@ -365,6 +365,29 @@ type pick struct {
 	pix int32
 }
 
+// photoLights resolves the lights of photo pi.
+func photoLights(c *capture.Capture, pi int) ([]photoLight, error) {
+	var lights []photoLight
+	for k, id := range c.Photos[pi].Lights {
+		l, _ := c.LightByID(id)
+		if l == nil {
+			return nil, fmt.Errorf("%s: photos[%d].lights[%d]: no light %q", c.Path, pi, k, id)
+		}
+		pl := photoLight{kind: l.Type, radius: l.Radius}
+		switch l.Type {
+		case capture.LightDirectional:
+			d := l.UnitDirection()
+			pl.dir = render.V3(d[0], d[1], d[2])
+			pl.power = l.Irradiance
+		default: // point, and sphere as a point at its centre: its far-field intensity is the same
+			pl.pos = render.V3(l.Position[0], l.Position[1], l.Position[2])
+			pl.power = l.Intensity
+		}
+		lights = append(lights, pl)
+	}
+	return lights, nil
+}
+
 // decodedPhoto is a photo read ahead of its use.
 type decodedPhoto struct {
 	img      *photo.Image
@@ -394,26 +417,11 @@ func decodePhoto(c *capture.Capture, pi int) decodedPhoto {
 }
 
 func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPhoto, v *view, scene *render.Scene, offset float64, set *ObservationSet, opts Options) error {
-	ph := &c.Photos[pi]
 	img, mask := d.img, d.mask
 	w, h := v.cam.Width, v.cam.Height
-	var lights []photoLight
-	for k, id := range ph.Lights {
-		l, _ := c.LightByID(id)
-		if l == nil {
-			return fmt.Errorf("%s: photos[%d].lights[%d]: no light %q", c.Path, pi, k, id)
-		}
-		pl := photoLight{kind: l.Type, radius: l.Radius}
-		switch l.Type {
-		case capture.LightDirectional:
-			d := l.UnitDirection()
-			pl.dir = render.V3(d[0], d[1], d[2])
-			pl.power = l.Irradiance
-		default: // point, and sphere as a point at its centre: its far-field intensity is the same
-			pl.pos = render.V3(l.Position[0], l.Position[1], l.Position[2])
-			pl.power = l.Intensity
-		}
-		lights = append(lights, pl)
+	lights, err := photoLights(c, pi)
+	if err != nil {
+		return err
 	}
 	floor := opts.NoiseFloor
 	if floor <= 0 {
@@ -425,38 +433,23 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 	cands := make([][]int32, nseg)
 	var dark []int32
 	for i := 0; i < w*h; i++ {
-		switch v.status[i] {
-		case viewMiss:
-			continue
-		case viewBorder:
+		switch pixelReason(v, i, img, mask, lights, floor, opts.MinCosine) {
+		case PixelKept:
+			s := v.seg[i]
+			cands[s] = append(cands[s], int32(i))
+		case PixelBorder:
 			rej.Border++
-			continue
-		case viewUnassigned:
+		case PixelUnassigned:
 			rej.Unassigned++
-			continue
-		case viewGrazing:
+		case PixelGrazing:
 			rej.Grazing++
-			continue
-		}
-		if lightGrazing(v, i, lights, opts.MinCosine) {
-			rej.Grazing++
-			continue
-		}
-		if mask != nil && !mask[i] {
+		case PixelMasked:
 			rej.Masked++
-			continue
-		}
-		if img.Saturated != nil && img.Saturated[i] {
+		case PixelSaturated:
 			rej.Saturated++
-			continue
-		}
-		px := img.Pix[3*i : 3*i+3]
-		if (float64(px[0])+float64(px[1])+float64(px[2]))/3 < floor {
+		case PixelUnderExposed:
 			dark = append(dark, int32(i))
-			continue
 		}
-		s := v.seg[i]
-		cands[s] = append(cands[s], int32(i))
 	}
 
 	// A dark pixel is either in the cast shadow of the photo's lights or
@@ -569,6 +562,105 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 	set.PhotoRejections[pi] = rej
 	set.Rejections.add(rej)
 	return nil
+}
+
+// PixelReason says why a pixel of a photo is kept for the fit or not.
+type PixelReason uint8
+
+// Pixel reasons, in the order the tests are made.
+const (
+	PixelBackground   PixelReason = iota // the ray misses the mesh
+	PixelKept                            // trustworthy: a candidate for the fit
+	PixelBorder                          // near a silhouette or a segment border
+	PixelUnassigned                      // triangle of no segment
+	PixelGrazing                         // back-facing or grazing view or light
+	PixelMasked                          // outside the photo's mask
+	PixelSaturated                       // clipped channel
+	PixelUnderExposed                    // below the noise floor (not in shadow)
+	PixelShadow                          // in the cast shadow of the photo's lights
+)
+
+// pixelReason applies the tests that need no shadow ray; a dark pixel comes
+// back PixelUnderExposed and is split from PixelShadow by the caller.
+func pixelReason(v *view, i int, img *photo.Image, mask []bool, lights []photoLight, floor, minCos float64) PixelReason {
+	switch v.status[i] {
+	case viewMiss:
+		return PixelBackground
+	case viewBorder:
+		return PixelBorder
+	case viewUnassigned:
+		return PixelUnassigned
+	case viewGrazing:
+		return PixelGrazing
+	}
+	if lightGrazing(v, i, lights, minCos) {
+		return PixelGrazing
+	}
+	if mask != nil && !mask[i] {
+		return PixelMasked
+	}
+	if img.Saturated != nil && img.Saturated[i] {
+		return PixelSaturated
+	}
+	px := img.Pix[3*i : 3*i+3]
+	if (float64(px[0])+float64(px[1])+float64(px[2]))/3 < floor {
+		return PixelUnderExposed
+	}
+	return PixelKept
+}
+
+// RejectionMap classifies every pixel of photo pi of the capture as the fit
+// would (PixelReason per pixel, row-major, width x height), for a view that
+// overlays the rejections on the photo. Every dark pixel gets its shadow
+// ray here. Kept pixels may still be dropped by the fit if the sample draws
+// them and all their lights turn out occluded at the sampled point.
+func RejectionMap(ctx context.Context, c *capture.Capture, pi int, opts Options) ([]PixelReason, int, int, error) {
+	opts = opts.withDefaults()
+	if pi < 0 || pi >= len(c.Photos) {
+		return nil, 0, 0, fmt.Errorf("%s: photo index %d out of range (%d photos)", c.Path, pi, len(c.Photos))
+	}
+	m, _, err := mesh.Load(c.Resolve(c.Mesh))
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	labelSeg, err := c.SegmentIndex(m)
+	if err != nil {
+		return nil, 0, 0, fmt.Errorf("%s: %w", c.Path, err)
+	}
+	scene, err := render.NewScene(m, opts.Threads)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	cam, ci := c.CameraByID(c.Photos[pi].Camera)
+	if ci < 0 {
+		return nil, 0, 0, fmt.Errorf("%s: photos[%d].camera: no camera %q", c.Path, pi, c.Photos[pi].Camera)
+	}
+	v, err := castView(ctx, scene, pinhole(cam), labelSeg, opts)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	d := decodePhoto(c, pi)
+	if d.err != nil {
+		return nil, 0, 0, d.err
+	}
+	lights, err := photoLights(c, pi)
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	floor := opts.NoiseFloor
+	if floor <= 0 {
+		floor = 0.002 * d.exposure
+	}
+	offset := 1e-5 * math.Max(scene.Bounds().Diagonal(), 1e-3)
+	out := make([]PixelReason, cam.Width*cam.Height)
+	for i := range out {
+		r := pixelReason(v, i, d.img, d.mask, lights, floor, opts.MinCosine)
+		if r == PixelUnderExposed && inShadow(v, i, lights, scene, offset) {
+			r = PixelShadow
+		}
+		out[i] = r
+	}
+	return out, cam.Width, cam.Height, nil
 }
 
 // lightGrazing reports a light of the photo that meets the surface within

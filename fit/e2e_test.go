@@ -471,3 +471,30 @@ func TestRunNoFitPhotos(t *testing.T) {
 		t.Fatalf("error %v, want one naming the capture and the missing fit photos", err)
 	}
 }
+
+// TestRejectionMap: the per-pixel map of one photo agrees with the counts
+// the fit reports for that photo (up to the shadow split, which the fit
+// estimates from a sample only beyond maxDarkTests dark pixels).
+func TestRejectionMap(t *testing.T) {
+	dir := t.TempDir()
+	c, err := capture.Load(writeE2ECapture(t, dir))
+	must(t, err)
+	set, err := BuildObservations(context.Background(), c, Options{})
+	must(t, err)
+	pi := 0 // the photo with the mask
+	m, w, h, err := RejectionMap(context.Background(), c, pi, Options{})
+	must(t, err)
+	if w != camW || h != camH || len(m) != w*h {
+		t.Fatalf("map %dx%d (%d)", w, h, len(m))
+	}
+	var n [PixelShadow + 1]int
+	for _, r := range m {
+		n[r]++
+	}
+	want := set.PhotoRejections[pi]
+	got := Rejections{Border: n[PixelBorder], Unassigned: n[PixelUnassigned], Grazing: n[PixelGrazing], Masked: n[PixelMasked],
+		Saturated: n[PixelSaturated], UnderExposed: n[PixelUnderExposed], Shadow: n[PixelShadow]}
+	if got.Masked == 0 || got != want {
+		t.Errorf("map counts %+v, fit's counts %+v", got, want)
+	}
+}

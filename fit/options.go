@@ -39,8 +39,8 @@ type Options struct {
 	MinRoughness float64
 	// RelTol and AbsTol: a pass whose loss decrease is below
 	// RelTol*|loss| + AbsTol makes no progress; Patience such passes (or
-	// major iterations for L-BFGS) in a row stop the fit. Defaults 1e-9,
-	// 1e-16 and 5.
+	// major iterations for L-BFGS) in a row stop the fit. Defaults 1e-8,
+	// 1e-16 and 3.
 	RelTol, AbsTol float64
 	Patience       int
 	// GradTol stops when the largest gradient component (in the optimiser's
@@ -113,13 +113,13 @@ func (o Options) withDefaults() Options {
 		o.MinRoughness = 0.03
 	}
 	if o.RelTol <= 0 {
-		o.RelTol = 1e-9
+		o.RelTol = 1e-8
 	}
 	if o.AbsTol <= 0 {
 		o.AbsTol = 1e-16
 	}
 	if o.Patience <= 0 {
-		o.Patience = 5
+		o.Patience = 3
 	}
 	if o.GradTol <= 0 {
 		o.GradTol = 1e-10
