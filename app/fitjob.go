@@ -44,7 +44,7 @@ func (s *Session) StartFit() (*Job, error) {
 	s.notify(ChangeFit)
 	s.setStatus("Fitting: reading photos", 0)
 	c := s.Capture
-		cc := newCoalescer(s.post)
+	cc := newCoalescer(s.post)
 	var last fit.Progress
 	var lastSeg = -1
 	opts := fit.Options{Samples: s.Fit.Samples, Progress: func(p fit.Progress) {

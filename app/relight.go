@@ -45,13 +45,13 @@ type RelightState struct {
 	Point                                        bool
 	PointAzimuth, PointElevation, PointIntensity float64
 	// Env is none, studio, sky or file (EnvFile names the .hdr or .pfm).
-	Env                        string
-	EnvFile                    string
-	SkyElevation, SkyAzimuth   float64 // sun, degrees
-	EnvRotate, EnvIntensity    float64 // degrees about up; radiance scale
-	Exposure                   float64 // stops
-	SPP                        int     // samples per pixel to refine to
-	Active                     bool    // the view is shown: renders run only then
+	Env                      string
+	EnvFile                  string
+	SkyElevation, SkyAzimuth float64 // sun, degrees
+	EnvRotate, EnvIntensity  float64 // degrees about up; radiance scale
+	Exposure                 float64 // stops
+	SPP                      int     // samples per pixel to refine to
+	Active                   bool    // the view is shown: renders run only then
 
 	// Latest image: linear RGB, its size and samples per pixel, and the
 	// time since the render started.
@@ -66,8 +66,8 @@ type RelightState struct {
 	imageGen int // the generation of Pix
 	display  *image.RGBA
 	disp     Display
-	envKey  string
-	envMap  *hdr.Image
+	envKey   string
+	envMap   *hdr.Image
 }
 
 func defaultRelight() RelightState {
