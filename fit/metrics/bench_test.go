@@ -3,6 +3,7 @@ package metrics
 import (
 	"sync"
 	"testing"
+	"time"
 )
 
 // benchPair is a 1280 x 960 pair with a circular object mask, saturated
@@ -16,10 +17,19 @@ func BenchmarkCompare1280x960(b *testing.B) {
 	names := []string{"left", "middle", "right", "base"}
 	b.ReportAllocs()
 	b.ResetTimer()
+	c0, ok := processCPU()
 	for i := 0; i < b.N; i++ {
 		if _, _, err := Compare(p.render, p.photo, p.w, p.h, p.valid, p.segment, names, Options{NoImages: true}); err != nil {
 			b.Fatal(err)
 		}
+	}
+	reportCPU(b, c0, ok)
+}
+
+// reportCPU adds the process CPU time per call (all threads) as cpu-ms/op.
+func reportCPU(b *testing.B, c0 time.Duration, ok bool) {
+	if c1, ok1 := processCPU(); ok && ok1 {
+		b.ReportMetric(float64(c1-c0)/float64(time.Millisecond)/float64(b.N), "cpu-ms/op")
 	}
 }
 
@@ -30,9 +40,11 @@ func BenchmarkCompare1280x960WithImages(b *testing.B) {
 	names := []string{"left", "middle", "right", "base"}
 	b.ReportAllocs()
 	b.ResetTimer()
+	c0, ok := processCPU()
 	for i := 0; i < b.N; i++ {
 		if _, _, err := Compare(p.render, p.photo, p.w, p.h, p.valid, p.segment, names, Options{}); err != nil {
 			b.Fatal(err)
 		}
 	}
+	reportCPU(b, c0, ok)
 }
