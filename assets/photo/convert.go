@@ -177,10 +177,21 @@ func fill8(img image.Image, y int, row []uint8, pal [][3]uint8) {
 			row[3*x], row[3*x+1], row[3*x+2] = v, v, v
 		}
 	case *image.YCbCr:
-		for x := 0; x < w; x++ {
-			yi := m.YOffset(b.Min.X+x, y)
-			ci := m.COffset(b.Min.X+x, y)
-			row[3*x], row[3*x+1], row[3*x+2] = color.YCbCrToRGB(m.Y[yi], m.Cb[ci], m.Cr[ci])
+		// Chroma index as image.YCbCr.COffset computes it, with the row
+		// part hoisted: x/hdiv - Rect.Min.X/hdiv within the row.
+		hdiv := 1
+		switch m.SubsampleRatio {
+		case image.YCbCrSubsampleRatio422, image.YCbCrSubsampleRatio420:
+			hdiv = 2
+		case image.YCbCrSubsampleRatio411, image.YCbCrSubsampleRatio410:
+			hdiv = 4
+		}
+		y0 := m.YOffset(b.Min.X, y)
+		c0 := m.COffset(b.Min.X, y) - (b.Min.X/hdiv - m.Rect.Min.X/hdiv)
+		ys := m.Y[y0 : y0+w]
+		for x := range ys {
+			ci := c0 + (b.Min.X+x)/hdiv - m.Rect.Min.X/hdiv
+			row[3*x], row[3*x+1], row[3*x+2] = color.YCbCrToRGB(ys[x], m.Cb[ci], m.Cr[ci])
 		}
 	case *image.Paletted:
 		src := m.Pix[m.PixOffset(b.Min.X, y):]

@@ -165,7 +165,8 @@ func testImages() map[string]image.Image {
 	}
 	out["RGBA"], out["NRGBA"], out["RGBA64"], out["NRGBA64"] = rgba, nrgba, rgba64, nrgba64
 	out["Gray"], out["Gray16"], out["Paletted"] = gray, gray16, pal
-	for _, sr := range []image.YCbCrSubsampleRatio{image.YCbCrSubsampleRatio444, image.YCbCrSubsampleRatio422, image.YCbCrSubsampleRatio420, image.YCbCrSubsampleRatio440} {
+	for _, sr := range []image.YCbCrSubsampleRatio{image.YCbCrSubsampleRatio444, image.YCbCrSubsampleRatio422, image.YCbCrSubsampleRatio420,
+		image.YCbCrSubsampleRatio440, image.YCbCrSubsampleRatio411, image.YCbCrSubsampleRatio410} {
 		yc := image.NewYCbCr(r, sr)
 		for i := range yc.Y {
 			yc.Y[i] = uint8(i * 13)
@@ -174,6 +175,7 @@ func testImages() map[string]image.Image {
 			yc.Cb[i], yc.Cr[i] = uint8(i*5+60), uint8(200-i*3)
 		}
 		out["YCbCr"+sr.String()] = yc
+		out["YCbCr sub-image "+sr.String()] = yc.SubImage(image.Rect(3, 1, 30, 20))
 	}
 	// A sub-image, so offsets are exercised.
 	out["NRGBA sub-image"] = nrgba.SubImage(image.Rect(3, 2, 30, 20))
