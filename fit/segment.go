@@ -438,6 +438,21 @@ func (res *SegmentFit) warn(opts Options, advice string) {
 			"poorly constrained (one sigma above %.0f%% of the value): %s; %s",
 			100*opts.MaxRelativeSigma, joinList(loose), what))
 	}
+	var atBound []string
+	for k := 0; k < np; k++ {
+		lo := 0.0
+		if k == np-1 {
+			lo = opts.MinRoughness
+		}
+		if v[k] > 1-1e-3 || (k == np-1 && v[k] < lo+1e-3) {
+			atBound = append(atBound, fmt.Sprintf("%s %.3g", names[k], v[k]))
+		}
+	}
+	if len(atBound) > 0 {
+		res.Warnings = append(res.Warnings, fmt.Sprintf(
+			"at the limit of the valid range: %s; the direct-lighting model cannot explain these photos well; look for light reflected onto the segment by bright or concave surroundings, a wrong light intensity, or pixels of another material in this segment",
+			joinList(atBound)))
+	}
 	if res.Stop == stopPasses {
 		res.Warnings = append(res.Warnings, fmt.Sprintf(
 			"the optimiser stopped at the pass limit (%d) before converging; raise the limit or check the observations", opts.MaxPasses))
