@@ -205,8 +205,12 @@ func checkFile(ctx context.Context, path string, opt checkOptions) *checkResult 
 
 // checkJSON sniffs which Patina JSON format the file holds.
 func checkJSON(ctx context.Context, path string, opt checkOptions) *checkResult {
-	data, err := os.ReadFile(path)
-	if err == nil {
+	var data []byte
+	st, err := os.Stat(path)
+	if err == nil && st.Size() <= capture.MaxFileSize {
+		data, err = os.ReadFile(path)
+	}
+	if err == nil && data != nil {
 		var top map[string]json.RawMessage
 		if json.Unmarshal(data, &top) == nil {
 			var kinds []string
