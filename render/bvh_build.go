@@ -15,16 +15,18 @@ import (
 // order-free, and node numbering is fixed afterwards by a depth-first pass.
 
 const (
-	// maxLeafSize bounds the triangles of one leaf.
-	maxLeafSize = 8
+	// maxLeafSize bounds the triangles of one leaf; a leaf reference packs
+	// the count in leafCountBits bits.
+	maxLeafSize   = 8
+	leafCountBits = 4
 	// sahTraversal and sahIntersect are the SAH costs of visiting a node
 	// and of testing a triangle (relative units).
-	sahTraversal = 1.0
+	sahTraversal = 2.0
 	sahIntersect = 1.0
 	// medianDepth is the depth from which every split is an object-median
 	// split, so that no input can make the tree deeper than the fixed
 	// traversal stack: depth <= medianDepth + log2(triangles) < stackSize.
-	medianDepth = 64
+	medianDepth = 32
 	// parallelBinning is the range size from which binning is split over
 	// threads; parallelSubtree the size from which a subtree gets its own
 	// goroutine.
@@ -450,6 +452,8 @@ func (nd *bvhNode) setChild(c int, b box32, ref, count int32) {
 	o := 6 * (c & 1)
 	nd.box[o+0], nd.box[o+1], nd.box[o+2] = b.lo[0], b.lo[1], b.lo[2]
 	nd.box[o+3], nd.box[o+4], nd.box[o+5] = b.hi[0], b.hi[1], b.hi[2]
+	if ref < 0 { // leaf: first triangle and count packed as ^(first<<4 | count)
+		ref = ^(^ref<<leafCountBits | count)
+	}
 	nd.child[c&1] = ref
-	nd.count[c&1] = count
 }

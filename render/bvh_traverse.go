@@ -16,11 +16,13 @@ type Hit struct {
 	Segment int32
 }
 
-// stackSize bounds the traversal stack; the build keeps the tree shallower.
-const stackSize = 128
+// stackSize bounds the traversal stack; the build keeps the tree shallower
+// (depth <= medianDepth + log2(MaxSceneTriangles) < stackSize). It is small
+// because Go zeroes the stack array on every query.
+const stackSize = 64
 
 type stackEntry struct {
-	node int32
+	node int32   // as bvhNode.child
 	t    float32 // entry distance of the node's box, for culling on pop
 }
 
@@ -132,6 +134,22 @@ func (s *Scene) Intersect(r Ray, tmax float64, h *Hit) bool {
 	return true
 }
 
+// ClosestHit is the bare closest-hit query: distance, mesh triangle and the
+// barycentrics of its vertices 1 and 2, without touching the mesh (no
+// normals, UVs or segment), like the single-ray query of other ray-tracing
+// kernels. It does not allocate.
+func (s *Scene) ClosestHit(r Ray, tmax float64) (t float64, tri int32, b1, b2 float64, ok bool) {
+	var q rayQuery
+	if !q.init(r, tmax) {
+		return 0, -1, 0, 0, false
+	}
+	s.traverse(&q, false)
+	if q.hitIndex < 0 {
+		return 0, -1, 0, 0, false
+	}
+	return q.tmax, s.triID[q.hitIndex], q.v, q.w, true
+}
+
 // Occluded reports whether r hits any triangle at a distance in (0, tmax),
 // for shadow rays. It does not allocate.
 func (s *Scene) Occluded(r Ray, tmax float64) bool {
@@ -142,9 +160,12 @@ func (s *Scene) Occluded(r Ray, tmax float64) bool {
 	return s.traverse(&q, true)
 }
 
-// traverse walks the BVH front to back (nearer child first, the farther one
-// on a fixed stack, culled on pop by its entry distance). With anyHit it
-// returns at the first hit.
+// traverse walks the BVH front to back: of two children hit, the nearer is
+// visited next and the farther pushed on a fixed stack with its entry
+// distance, and popped entries farther than the current closest hit are
+// skipped. Leaves are visited in the same order and their triangles tested
+// in this loop (a call would spill every register). With anyHit it returns
+// at the first hit.
 func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
 	nodes := s.nodes
 	tris := s.tris
@@ -153,58 +174,93 @@ func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
 	}
 	ox, oy, oz := q.ox, q.oy, q.oz
 	idx, idy, idz := q.idx, q.idy, q.idz
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx, fdy, fdz := idx*boxPad, idy*boxPad, idz*boxPad
 	nx, ny, nz := q.nx, q.ny, q.nz
-	if nx > 3 || ny > 4 || nz > 5 {
-		return false // never: lets the compiler drop the box bounds checks
-	}
 	fx, fy, fz := 3-nx, 5-ny, 7-nz // far planes: min <-> max of the same axis
 	nx6, ny6, nz6, fx6, fy6, fz6 := nx+6, ny+6, nz+6, fx+6, fy+6, fz+6
-	if fx > 11 || fy > 11 || fz > 11 || nx6 > 11 || ny6 > 11 || nz6 > 11 || fx6 > 11 || fy6 > 11 || fz6 > 11 {
-		return false
+	if nx > 11 || ny > 11 || nz > 11 || fx > 11 || fy > 11 || fz > 11 || nx6 > 11 || ny6 > 11 || nz6 > 11 || fx6 > 11 || fy6 > 11 || fz6 > 11 {
+		return false // never: lets the compiler drop the box bounds checks
 	}
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	sx, sy, sz := q.sx, q.sy, q.sz
+	okx, oky, okz := q.okx, q.oky, q.okz
 	var stack [stackSize]stackEntry
 	sp := 0
-	ni := int32(0)
+	ni := int32(0) // >= 0: inner node; < 0: leaf (see bvhNode.child)
 	for {
-		nd := &nodes[ni]
-		b := &nd.box
-		tmax := q.tmax32
-		t0n := max((b[nx]-ox)*idx, (b[ny]-oy)*idy, (b[nz]-oz)*idz, 0)
-		t0f := min(min((b[fx]-ox)*idx, (b[fy]-oy)*idy, (b[fz]-oz)*idz)*boxPad, tmax)
-		t1n := max((b[nx6]-ox)*idx, (b[ny6]-oy)*idy, (b[nz6]-oz)*idz, 0)
-		t1f := min(min((b[fx6]-ox)*idx, (b[fy6]-oy)*idy, (b[fz6]-oz)*idz)*boxPad, tmax)
-		hit0 := t0n <= t0f
-		hit1 := t1n <= t1f
-		c0, c1 := nd.child[0], nd.child[1]
-		if hit0 && c0 < 0 {
-			if q.leaf(tris, ^c0, nd.count[0], anyHit) && anyHit {
-				return true
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			tmax := q.tmax32
+			// Slab test (Ize 2013) with the entry distance negated, so that
+			// both ends are minima: max(a, b, c, 0) = -min(-a, -b, -c, 0).
+			n0 := min((ox-b[nx])*idx, (oy-b[ny])*idy, (oz-b[nz])*idz, 0)
+			f0 := min((b[fx]-ox)*fdx, (b[fy]-oy)*fdy, (b[fz]-oz)*fdz, tmax)
+			n1 := min((ox-b[nx6])*idx, (oy-b[ny6])*idy, (oz-b[nz6])*idz, 0)
+			f1 := min((b[fx6]-ox)*fdx, (b[fy6]-oy)*fdy, (b[fz6]-oz)*fdz, tmax)
+			hit0 := -n0 <= f0
+			hit1 := -n1 <= f1
+			if hit0 && hit1 {
+				c0, c1 := nd.child[0], nd.child[1]
+				if n1 > n0 { // child 1 is nearer
+					c0, c1 = c1, c0
+					n0, n1 = n1, n0
+				}
+				stack[sp&(stackSize-1)] = stackEntry{c1, -n1}
+				sp++
+				ni = c0
+				continue
 			}
-			hit0 = false
-		}
-		if hit1 && c1 < 0 {
-			if q.leaf(tris, ^c1, nd.count[1], anyHit) && anyHit {
-				return true
+			if hit0 {
+				ni = nd.child[0]
+				continue
 			}
-			hit1 = false
-		}
-		if hit0 && hit1 {
-			if t1n < t0n {
-				c0, c1 = c1, c0
-				t0n, t1n = t1n, t0n
+			if hit1 {
+				ni = nd.child[1]
+				continue
 			}
-			stack[sp&(stackSize-1)] = stackEntry{c1, t1n}
-			sp++
-			ni = c0
-			continue
-		}
-		if hit0 && t0n <= q.tmax32 {
-			ni = c0
-			continue
-		}
-		if hit1 && t1n <= q.tmax32 {
-			ni = c1
-			continue
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - okz
+				bz := float64(t[3+kz]) - okz
+				cz := float64(t[6+kz]) - okz
+				ax := float64(t[kx]) - okx - sx*az
+				ay := float64(t[ky]) - oky - sy*az
+				bx := float64(t[3+kx]) - okx - sx*bz
+				by := float64(t[3+ky]) - oky - sy*bz
+				cx := float64(t[6+kx]) - okx - sx*cz
+				cy := float64(t[6+ky]) - oky - sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+			}
 		}
 		for {
 			if sp == 0 {
@@ -280,14 +336,19 @@ func (s *Scene) fillHit(r Ray, q *rayQuery, h *Hit) {
 	h.Tri = tri
 	h.B1, h.B2 = q.v, q.w
 	h.P = r.At(q.tmax)
-	ix := m.Indices[3*int(tri) : 3*int(tri)+3 : 3*int(tri)+3]
-	p0 := vertex64(m.Positions, ix[0])
-	p1 := vertex64(m.Positions, ix[1])
-	p2 := vertex64(m.Positions, ix[2])
+	tv := &s.tris[q.hitIndex] // the mesh's vertices, already in cache
+	p0 := Vec3{float64(tv[0]), float64(tv[1]), float64(tv[2])}
+	p1 := Vec3{float64(tv[3]), float64(tv[4]), float64(tv[5])}
+	p2 := Vec3{float64(tv[6]), float64(tv[7]), float64(tv[8])}
 	ng := p1.Sub(p0).Cross(p2.Sub(p0)).Norm()
 	h.Ng = ng
 	b0 := q.u
 	h.Ns = ng
+	if len(m.Normals) == 0 && len(m.UVs) == 0 && len(m.Segments) == 0 {
+		h.UV, h.Segment = [2]float64{}, 0
+		return
+	}
+	ix := m.Indices[3*int(tri) : 3*int(tri)+3 : 3*int(tri)+3]
 	if len(m.Normals) != 0 {
 		n := vertex64(m.Normals, ix[0]).Mul(b0).
 			Add(vertex64(m.Normals, ix[1]).Mul(q.v)).

@@ -9,9 +9,9 @@ import (
 	"time"
 )
 
-// MaxSceneTriangles is the largest mesh NewScene accepts; node and
-// triangle references are int32.
-const MaxSceneTriangles = 1 << 30
+// MaxSceneTriangles is the largest mesh NewScene accepts: a leaf reference
+// packs the first triangle and the count in an int32.
+const MaxSceneTriangles = 1 << (31 - leafCountBits)
 
 // Scene is a triangle mesh with its bounding volume hierarchy, ready for
 // ray queries. It keeps a pointer to the mesh (for normals, UVs and
@@ -41,8 +41,8 @@ type BuildStats struct {
 // 64-byte line answers both box tests.
 type bvhNode struct {
 	box   [12]float32 // child 0 min x y z, max x y z; then child 1
-	child [2]int32    // >= 0: inner node index; < 0: leaf whose first triangle is ^child
-	count [2]int32    // triangles of a leaf child; 0 for an inner child
+	child [2]int32    // >= 0: inner node index; < 0: leaf ^(first triangle << leafCountBits | count)
+	_     [2]int32    // pads the node to one 64-byte cache line
 }
 
 // triVerts holds the three vertices of a triangle: x0 y0 z0 x1 y1 z1 x2 y2 z2.
