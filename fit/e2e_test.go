@@ -498,3 +498,28 @@ func TestRejectionMap(t *testing.T) {
 		t.Errorf("map counts %+v, fit's counts %+v", got, want)
 	}
 }
+
+// TestPhotoOutlier: one photo recorded with a wrong exposure (25% too
+// high) stands out in the per-photo residuals and is named in a warning.
+func TestPhotoOutlier(t *testing.T) {
+	dir := t.TempDir()
+	c, err := capture.Load(writeE2ECapture(t, dir))
+	must(t, err)
+	bad := 7
+	c.Photos[bad].Exposure.Scale *= 1.25
+	res, err := Run(context.Background(), c, Options{Samples: 1000})
+	must(t, err)
+	for _, p := range res.Photos {
+		t.Logf("%s ratio %.4f outlier %v", p.File, p.Ratio, p.Outlier)
+		if (p.Photo == bad) != p.Outlier {
+			t.Errorf("photo %s: outlier %v (ratio %.3f)", p.File, p.Outlier, p.Ratio)
+		}
+	}
+	found := false
+	for _, w := range res.Warnings {
+		found = found || strings.Contains(w, c.Photos[bad].File)
+	}
+	if !found {
+		t.Errorf("no warning names %s: %q", c.Photos[bad].File, res.Warnings)
+	}
+}

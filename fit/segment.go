@@ -68,6 +68,15 @@ func FitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, opts Opt
 	return fitSegment(ctx, obs, kind, "", 0, 1, eps, "", nil, opts)
 }
 
+// neutralParams are the values an unfitted segment gets: a mid-grey
+// dielectric with glTF's default F0 0.04, or a bright grey metal.
+func neutralParams(kind brdf.Kind) brdf.Params {
+	if kind == brdf.Metal {
+		return brdf.Params{Kind: kind, Specular: brdf.RGB{0.9, 0.9, 0.9}, Roughness: 0.5}
+	}
+	return brdf.Params{Kind: kind, Diffuse: brdf.RGB{0.5, 0.5, 0.5}, Specular: brdf.RGB{0.04, 0.04, 0.04}, Roughness: 0.5}
+}
+
 // genericAdvice is said when nothing is known about the segment's geometry.
 const genericAdvice = "add photos in which a light sits near the mirror direction of a camera about this segment's surface, so its highlights are seen"
 
@@ -87,6 +96,16 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 		}
 	}
 	if obs.Len() < 4*np {
+		// Neutral values, so a renderer still draws something plausible;
+		// Fitted stays false and the sigma is unknown.
+		res.Params = neutralParams(kind)
+		for k := range res.Sigma.Specular {
+			res.Sigma.Specular[k] = math.Inf(1)
+			if kind != brdf.Metal {
+				res.Sigma.Diffuse[k] = math.Inf(1)
+			}
+		}
+		res.Sigma.Roughness = math.Inf(1)
 		res.Warnings = append(res.Warnings, fmt.Sprintf(
 			"only %d observations for %d parameters: not fitted; photograph this segment from more cameras or under more lights, and check its mask and that its segment label matches the mesh", obs.Len(), np))
 		return res, nil
