@@ -113,7 +113,6 @@ func tracePass(ctx context.Context, s *render.Scene, rays []render.Ray, tmax []f
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			var h render.Hit
 			nh, st := 0, 0.0
 			for i := lo; i < hi; i++ {
 				if i&0xffff == 0 && ctx.Err() != nil {
@@ -123,9 +122,9 @@ func tracePass(ctx context.Context, s *render.Scene, rays []render.Ray, tmax []f
 					if s.Occluded(rays[i], tmax[i]) {
 						nh++
 					}
-				} else if s.Intersect(rays[i], tmax[i], &h) {
+				} else if t, _, _, _, ok := s.ClosestHit(rays[i], tmax[i]); ok {
 					nh++
-					st += h.T
+					st += t
 				}
 			}
 			hits[p], sums[p] = nh, st
@@ -243,6 +242,8 @@ func init() {
 Loads the mesh, builds the BVH on all cores (the fastest of -builds builds is
 reported), and traces every ray of the ray file: one warm-up pass, then
 -passes timed passes on -threads goroutines (default 1); the best is reported.
+Closest-hit mode runs Scene.ClosestHit (distance, triangle, barycentrics),
+the counterpart of other kernels' single-ray query.
 A ray file is a flat little-endian array of records of seven float32: origin
 x y z, unit direction x y z, tmax (+Inf allowed; with -occluded, the distance
 to the light). Prints rays, hits, sum_t (the sum of closest-hit distances;
