@@ -66,7 +66,11 @@ func (t ToneMap) Linear(v float64) float64 {
 // Encode maps one linear channel value to the sRGB-encoded display value
 // in [0,1].
 func (t ToneMap) Encode(v float64) float64 {
-	return math.Min(1, colour.LinearToSRGB(t.Linear(v)))
+	l := t.Linear(v)
+	if l >= 1 {
+		return 1 // the curve's 1.055 - 0.055 rounds to just below 1
+	}
+	return math.Min(1, colour.LinearToSRGB(l))
 }
 
 // Image develops the film into a display image: 8 bits per channel
