@@ -163,9 +163,26 @@ func labToRGBA(c colour.Lab) color.RGBA {
 	return color.RGBA{to8(r), to8(g), to8(b), 255}
 }
 
+// to8 is the 8-bit sRGB code of a linear value clipped to [0, 1], through a
+// table over the linear value quantised to 1/65535 (pictures need millions of
+// them; the quantisation moves a code by at most one, near black, and tests
+// bound it).
 func to8(linear float64) uint8 {
-	return uint8(math.Round(255 * encode(linear)))
+	if !(linear > 0) {
+		return 0
+	}
+	if linear >= 1 {
+		return 255
+	}
+	return to8Table[int(linear*65535+0.5)]
 }
+
+var to8Table = func() (t [65536]uint8) {
+	for i := range t {
+		t[i] = uint8(math.Round(255 * colour.LinearToSRGB(float64(i)/65535)))
+	}
+	return
+}()
 
 // Hatching marks the pixels that were not compared; it cannot be mistaken
 // for a value of either scale (both are coloured, the hatch is neutral).
@@ -198,17 +215,22 @@ func (m *Maps) draw(render, photo []float32, peak float64, r *Result, opt Option
 	seq, div := sequentialScale(), divergingScale()
 	deMap := image.NewRGBA(image.Rect(0, 0, w, h))
 	dlMap := image.NewRGBA(image.Rect(0, 0, w, h))
+	put := func(pix []uint8, i int, c color.RGBA) {
+		p := pix[4*i : 4*i+4 : 4*i+4]
+		p[0], p[1], p[2], p[3] = c.R, c.G, c.B, c.A
+	}
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
 			d := m.DeltaE[i]
 			if d != d {
-				deMap.SetRGBA(x, y, hatch(x, y, period))
-				dlMap.SetRGBA(x, y, hatch(x, y, period))
+				c := hatch(x, y, period)
+				put(deMap.Pix, i, c)
+				put(dlMap.Pix, i, c)
 				continue
 			}
-			deMap.SetRGBA(x, y, seq.at(float64(d)/m.DeltaEScale))
-			dlMap.SetRGBA(x, y, div.at((float64(m.DeltaL[i])/m.LightnessScale+1)/2))
+			put(deMap.Pix, i, seq.at(float64(d)/m.DeltaEScale))
+			put(dlMap.Pix, i, div.at((float64(m.DeltaL[i])/m.LightnessScale+1)/2))
 		}
 	}
 

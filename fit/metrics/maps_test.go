@@ -206,3 +206,25 @@ func TestMapImagesFullSize(t *testing.T) {
 		}
 	}
 }
+
+// The 8-bit table against rounding the exact sRGB curve (IEC 61966-2-1).
+func TestTo8(t *testing.T) {
+	off := 0
+	for i := 0; i <= 1000000; i++ {
+		v := float64(i) / 1000000
+		want := int(math.Round(255 * colour.LinearToSRGB(v)))
+		got := int(to8(v))
+		if got != want {
+			off++
+			if got-want > 1 || want-got > 1 {
+				t.Fatalf("to8(%v) = %d, sRGB curve rounds to %d", v, got, want)
+			}
+		}
+	}
+	if off > 5000 { // 0.5 %: only values within 1/131070 of a rounding threshold may move
+		t.Errorf("%d of 1000001 values one code off", off)
+	}
+	if to8(-1) != 0 || to8(2) != 255 || to8(math.NaN()) != 0 {
+		t.Error("to8 does not clip")
+	}
+}
