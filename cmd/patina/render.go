@@ -484,20 +484,20 @@ func runRender(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	}
 	w, h := cam.Size()
 	if showBar {
-		bar := progressbar.NewOptions64(int64(f.spp)*1000,
+		desc := func(spp int) string { return fmt.Sprintf("render %dx%d, %d/%d spp", w, h, spp, f.spp) }
+		bar := progressbar.NewOptions64(int64(w)*int64(h)*int64(f.spp),
 			progressbar.OptionSetWriter(stderr),
-			progressbar.OptionSetDescription(fmt.Sprintf("render %dx%d", w, h)),
-			progressbar.OptionSetItsString("spp"),
+			progressbar.OptionSetDescription(desc(0)),
+			progressbar.OptionSetItsString("samples"),
 			progressbar.OptionShowIts(),
 			progressbar.OptionSetPredictTime(true),
 			progressbar.OptionThrottle(100*time.Millisecond),
 			progressbar.OptionClearOnFinish(),
 		)
-		pixels := int64(w) * int64(h)
-		settings.OnProgress = func(done, total int64) {
-			// Bar units are thousandths of a sample per pixel.
-			_ = bar.Set64(done * 1000 / pixels)
-		}
+		// Samples are counted per finished tile; the description shows the
+		// samples per pixel of the last finished pass.
+		settings.OnProgress = func(done, total int64) { _ = bar.Set64(done) }
+		settings.OnPass = func(p render.Pass) { bar.Describe(desc(p.SPP)) }
 		defer bar.Finish()
 	}
 
