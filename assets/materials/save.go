@@ -2,6 +2,7 @@ package materials
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"strings"
@@ -43,12 +44,13 @@ func (f *File) Save(path string) error {
 // capture lists its segments) has exactly one entry here, every entry names
 // a capture segment, each model is one of brdf's kinds and agrees with the
 // capture's model for that segment, and every value is in range. It returns
-// every problem found, joined, as an *Error per problem.
+// every problem found, one *Error each, joined by errors.Join (nil when
+// there is none).
 func (f *File) Validate(c *capture.Capture, m *render.Mesh) error {
 	segs := c.EffectiveSegments(m)
-	var errs []string
+	var errs []error
 	add := func(path, format string, a ...any) {
-		errs = append(errs, (&Error{File: f.Path, Path: path, Msg: fmt.Sprintf(format, a...)}).Error())
+		errs = append(errs, &Error{File: f.Path, Path: path, Msg: fmt.Sprintf(format, a...)})
 	}
 	known := make(map[string]int, len(segs))
 	for i, s := range segs {
@@ -88,10 +90,7 @@ func (f *File) Validate(c *capture.Capture, m *render.Mesh) error {
 			add("segments", "no parameters for the capture's segment %q", s.Name)
 		}
 	}
-	if len(errs) > 0 {
-		return fmt.Errorf("%s", strings.Join(errs, "\n"))
-	}
-	return nil
+	return errors.Join(errs...)
 }
 
 // ParamsForMesh returns the reflectance of every segment of mesh m as
