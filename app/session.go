@@ -148,6 +148,10 @@ type Session struct {
 
 	statusC *coalescer
 	fitLast func() fit.Progress
+	// queue is set by workbench tests: the channel their Poster fills,
+	// which the test goroutine drains while it waits, standing in for the
+	// UI goroutine.
+	queue   chan func()
 	fitMu   sync.Mutex
 	fitLive []float64 // worker side of Fit.Curve
 }

@@ -59,19 +59,47 @@ func copyTree(t *testing.T, from, to string) {
 	}
 }
 
+// drain runs everything queued for the stand-in UI goroutine so far
+// (Session.queue: jobs post into it and the test goroutine runs what they
+// posted, so widgets are only ever touched from one goroutine, as in the
+// real window).
+func drain(q chan func()) {
+	for {
+		select {
+		case f := <-q:
+			f()
+		default:
+			return
+		}
+	}
+}
+
 func waitJob(t *testing.T, s *Session, kind string) error {
 	t.Helper()
 	j := s.Job(kind)
 	if j == nil {
+		drain(s.queue)
 		return nil
 	}
-	select {
-	case <-j.Done():
-		return j.err
-	case <-time.After(90 * time.Second):
-		t.Fatalf("%s job did not finish", kind)
+	return waitFor(t, s, j)
+}
+
+func waitFor(t *testing.T, s *Session, j *Job) error {
+	t.Helper()
+	timeout := time.After(90 * time.Second)
+	q := s.queue
+	for {
+		select {
+		case f := <-q:
+			f()
+		case <-j.Done():
+			drain(q)
+			return j.err
+		case <-timeout:
+			t.Fatalf("%s job did not finish", j.Kind)
+			return nil
+		}
 	}
-	return nil
 }
 
 func TestOpenFixture(t *testing.T) {

@@ -72,7 +72,9 @@ func newMaterialsView(wb *Workbench) *materialsView {
 			l.Show()
 			l.SetText(materialCell(sm, id.Col))
 		})
-	v.table.CreateHeader = func() fyne.CanvasObject { return widget.NewLabelWithStyle("", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}) }
+	v.table.CreateHeader = func() fyne.CanvasObject {
+		return widget.NewLabelWithStyle("", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+	}
 	v.table.UpdateHeader = func(id widget.TableCellID, o fyne.CanvasObject) {
 		l := o.(*widget.Label)
 		if id.Row < 0 && id.Col >= 0 {

@@ -44,11 +44,11 @@ type Viewer struct {
 }
 
 var (
-	_ fyne.Draggable     = (*Viewer)(nil)
-	_ fyne.Scrollable    = (*Viewer)(nil)
+	_ fyne.Draggable      = (*Viewer)(nil)
+	_ fyne.Scrollable     = (*Viewer)(nil)
 	_ fyne.DoubleTappable = (*Viewer)(nil)
-	_ fyne.Tappable      = (*Viewer)(nil)
-	_ desktop.Hoverable  = (*Viewer)(nil)
+	_ fyne.Tappable       = (*Viewer)(nil)
+	_ desktop.Hoverable   = (*Viewer)(nil)
 )
 
 // NewViewer makes an empty viewer in fit-to-window mode.
@@ -88,8 +88,10 @@ func (r *viewerRenderer) Refresh() {
 	}
 	r.v.raster.Refresh()
 }
-func (r *viewerRenderer) Objects() []fyne.CanvasObject { return []fyne.CanvasObject{r.v.raster, r.v.hint} }
-func (r *viewerRenderer) Destroy()                     {}
+func (r *viewerRenderer) Objects() []fyne.CanvasObject {
+	return []fyne.CanvasObject{r.v.raster, r.v.hint}
+}
+func (r *viewerRenderer) Destroy() {}
 
 // SetImage shows img with an optional overlay; a new size refits.
 func (v *Viewer) SetImage(img, overlay *image.RGBA) {

@@ -21,6 +21,9 @@ import (
 type Options struct {
 	Capture   string // capture file to open, or empty
 	Materials string // materials file to load with it, or empty
+	// Post hands work to the UI goroutine; nil means fyne.Do. Tests pass
+	// a queue they drain themselves.
+	Post Poster
 }
 
 // View names, in tab order; Ctrl+1 .. Ctrl+6 select them.
@@ -64,7 +67,11 @@ const recentKey = "recent-captures"
 func New(ctx context.Context, a fyne.App, opt Options) *Workbench {
 	ctx, cancel := context.WithCancel(ctx)
 	wb := &Workbench{App: a, ctx: ctx, cancel: cancel}
-	wb.S = NewSession(ctx, fyne.Do)
+	post := opt.Post
+	if post == nil {
+		post = fyne.Do
+	}
+	wb.S = NewSession(ctx, post)
 	wb.Win = a.NewWindow("Patina")
 	wb.S.OnError = wb.showError
 
@@ -84,6 +91,12 @@ func New(ctx context.Context, a fyne.App, opt Options) *Workbench {
 	)
 	wb.Tabs.OnSelected = func(ti *container.TabItem) {
 		wb.S.SetRelightActive(ti.Text == ViewRelight)
+		if ti.Text != ViewCompare {
+			wb.S.Cancel("compare")
+		} else if cs := wb.S.Compare; cs.Result == nil && !cs.Running && cs.Photo >= 0 {
+			// The first visit compares at once: there is nothing else to see.
+			wb.S.RunCompare()
+		}
 	}
 	wb.status = widget.NewLabel("Open a capture (Ctrl+O) or make the demo capture (File menu).")
 	wb.status.Truncation = fyne.TextTruncateEllipsis
@@ -307,7 +320,7 @@ func (wb *Workbench) MakeDemo() {
 		}})
 		return err
 	}, func(err error) {
-		fyne.Do(func() {
+		s.post(func() {
 			if err != nil {
 				s.fail("Making the demo capture", err, "Check that "+dir+" can be written, then choose File > Make demo capture again.")
 				return
@@ -359,12 +372,15 @@ func (wb *Workbench) buildMenus() {
 	wb.shortcut(fyne.KeyW, true, "Ctrl+Shift+W", "next compare display: side by side, wipe, Delta E map", wb.S.CycleCompareMode)
 	wb.shortcut(fyne.Key0, false, "Ctrl+0", "fit the image to the view", wb.fitImages)
 	wb.Shortcuts = append(wb.Shortcuts, [2]string{"Escape", "cancel the running fit or comparison"},
+		[2]string{"F1", "this list"},
 		[2]string{"Wheel / drag", "zoom / pan a photo; dolly / orbit in Relight"},
 		[2]string{"Double click", "fit the image to the view"})
 	wb.Win.Canvas().SetOnTypedKey(func(e *fyne.KeyEvent) {
 		switch e.Name {
 		case fyne.KeyEscape:
 			wb.cancelTask()
+		case fyne.KeyF1:
+			wb.ShowShortcuts()
 		case fyne.KeyPageDown:
 			wb.S.StepPhoto(+1)
 		case fyne.KeyPageUp:
