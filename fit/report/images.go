@@ -1,0 +1,87 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"image"
+	"image/png"
+)
+
+// encodePNG encodes img as PNG.
+func encodePNG(img image.Image) ([]byte, error) {
+	var b bytes.Buffer
+	if err := png.Encode(&b, img); err != nil {
+		return nil, fmt.Errorf("report: encoding a picture: %w", err)
+	}
+	return b.Bytes(), nil
+}
+
+// addImage stores a picture to embed and records its hash.
+func (r *Report) addImage(name, caption string, simulation bool, b []byte) {
+	r.images[name] = b
+	r.Images = append(r.Images, ImageRecord{Name: name, Caption: caption, Bytes: len(b), SHA256: sha256Hex(b), Simulation: simulation})
+}
+
+// addHoldoutImages encodes the strip and the two maps of holdout k.
+func (r *Report) addHoldoutImages(k int, rec *HoldoutRecord, ho *Holdout) error {
+	if ho.Maps == nil || ho.Maps.Strip == nil {
+		return fmt.Errorf("report: photo %s: the comparison drew no pictures", ho.File)
+	}
+	items := []struct {
+		suffix, caption string
+		img             image.Image
+	}{
+		{"strip", fmt.Sprintf("Held-out photo %d (%s), left: the photograph. Middle: SIMULATION, a path-traced render of the same view with the fitted materials, not a photograph. Right: the Delta E 2000 difference between them.", k+1, ho.File), ho.Maps.Strip},
+		{"deltae", fmt.Sprintf("Held-out photo %d: CIEDE2000 colour difference per pixel between the photograph and the SIMULATION; hatched or blank pixels were not compared.", k+1), ho.Maps.DeltaEImage},
+		{"deltal", fmt.Sprintf("Held-out photo %d: lightness difference, SIMULATION minus photograph (CIELAB L*); blue where the simulation is darker, orange where it is lighter.", k+1), ho.Maps.DeltaLImage},
+	}
+	for _, it := range items {
+		if it.img == nil {
+			continue
+		}
+		b, err := encodePNG(it.img)
+		if err != nil {
+			return err
+		}
+		name := fmt.Sprintf("holdout-%d-%s.png", k+1, it.suffix)
+		r.addImage(name, it.caption, true, b)
+		rec.Images = append(rec.Images, name)
+	}
+	return nil
+}
+
+// addPlots draws the charts of the fit and of the holdout summary.
+func (r *Report) addPlots() error {
+	b, err := holdoutPlot(r.Holdouts, r.Tolerance)
+	if err != nil {
+		return err
+	}
+	if b != nil {
+		r.addImage("chart-holdouts.png", "Mean and 95th-percentile Delta E 2000 of every held-out view against the tolerance's limits (photograph vs SIMULATION).", true, b)
+	}
+	if b, err = residualPlot(r.Materials.Segments); err != nil {
+		return err
+	}
+	if b != nil {
+		r.addImage("chart-residuals.png", "Root-mean-square photometric residual of every fitted segment at the fit's solution (linear radiance, capture units), as the materials file records it.", false, b)
+	}
+	if r.Materials.Fit != nil {
+		if b, err = rejectionPlot(r.Materials.Fit.Rejections); err != nil {
+			return err
+		}
+		if b != nil {
+			r.addImage("chart-rejections.png", "Pixels of the fitting photos the fit left out, by reason, as the materials file records them.", false, b)
+		}
+	}
+	return nil
+}
+
+// imageRecord returns the record of the picture called name.
+func (r *Report) imageRecord(name string) (ImageRecord, bool) {
+	for _, im := range r.Images {
+		if im.Name == name {
+			return im, true
+		}
+	}
+	return ImageRecord{}, false
+}

@@ -1,0 +1,178 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"image/color"
+	"math"
+	"sort"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+)
+
+// Plot sizes and resolution of the embedded charts.
+const (
+	plotWidth  = 6.4 * vg.Inch
+	plotHeight = 3.2 * vg.Inch
+	plotDPI    = 110
+)
+
+var (
+	inkMain   = color.RGBA{R: 0x2f, G: 0x5d, B: 0x8a, A: 0xff}
+	inkSecond = color.RGBA{R: 0xc0, G: 0x7a, B: 0x2c, A: 0xff}
+	inkLimit  = color.RGBA{R: 0xa3, G: 0x2a, B: 0x2a, A: 0xff}
+)
+
+// pngOf draws p as a PNG image.
+func pngOf(p *plot.Plot) ([]byte, error) {
+	c := vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(plotWidth, plotHeight), vgimg.UseDPI(plotDPI))}
+	p.Draw(draw.New(c))
+	var b bytes.Buffer
+	if _, err := c.WriteTo(&b); err != nil {
+		return nil, fmt.Errorf("report: drawing %q: %w", p.Title.Text, err)
+	}
+	return b.Bytes(), nil
+}
+
+func newPlot(title, ylabel string, names []string) *plot.Plot {
+	p := plot.New()
+	p.Title.Text = title
+	p.Title.TextStyle.Font.Size = vg.Points(12)
+	p.Y.Label.Text = ylabel
+	p.Y.Min = 0
+	p.NominalX(names...)
+	p.Add(plotter.NewGrid())
+	p.Legend.Top = true
+	return p
+}
+
+// residualPlot draws the fit's final RMS residual per fitted segment.
+func residualPlot(segs []SegmentRecord) ([]byte, error) {
+	var names []string
+	var vals plotter.Values
+	for _, s := range segs {
+		if s.RMSE == nil {
+			continue
+		}
+		names = append(names, s.Name)
+		vals = append(vals, *s.RMSE)
+	}
+	if len(vals) == 0 {
+		return nil, nil
+	}
+	p := newPlot("Fit residual per segment at the solution", "RMS residual (linear radiance)", names)
+	bars, err := plotter.NewBarChart(vals, vg.Points(28))
+	if err != nil {
+		return nil, err
+	}
+	bars.Color = inkMain
+	bars.LineStyle.Width = 0
+	p.Add(bars)
+	return pngOf(p)
+}
+
+// rejectionPlot draws the counts of pixels the fit left out, by reason.
+func rejectionPlot(rej map[string]int) ([]byte, error) {
+	if len(rej) == 0 {
+		return nil, nil
+	}
+	keys := make([]string, 0, len(rej))
+	for k := range rej {
+		keys = append(keys, k)
+	}
+	sort.Slice(keys, func(i, j int) bool {
+		if rej[keys[i]] != rej[keys[j]] {
+			return rej[keys[i]] > rej[keys[j]]
+		}
+		return keys[i] < keys[j]
+	})
+	var vals plotter.Values
+	var names []string
+	for _, k := range keys {
+		vals = append(vals, float64(rej[k]))
+		names = append(names, reasonWords(k))
+	}
+	p := newPlot("Pixels the fit left out, by reason", "pixels", names)
+	bars, err := plotter.NewBarChart(vals, vg.Points(28))
+	if err != nil {
+		return nil, err
+	}
+	bars.Color = inkSecond
+	bars.LineStyle.Width = 0
+	p.Add(bars)
+	return pngOf(p)
+}
+
+// holdoutPlot draws the mean and 95th-percentile Delta E 2000 of every
+// holdout photo with the tolerance's limits as lines.
+func holdoutPlot(hs []HoldoutRecord, tol ToleranceRecord) ([]byte, error) {
+	if len(hs) == 0 {
+		return nil, nil
+	}
+	var names []string
+	var mean, p95 plotter.Values
+	top := 0.0
+	for i, h := range hs {
+		names = append(names, fmt.Sprintf("%d", i+1))
+		mean = append(mean, h.Metrics.DE2000Mean)
+		p95 = append(p95, h.Metrics.DE2000P95)
+		top = math.Max(top, h.Metrics.DE2000P95)
+	}
+	p := newPlot("Colour difference of each held-out view (photo vs simulation)", "\u0394E00", names)
+	p.X.Label.Text = "held-out photo (numbered as in the table)"
+	w := vg.Points(14)
+	b1, err := plotter.NewBarChart(mean, w)
+	if err != nil {
+		return nil, err
+	}
+	b1.Color, b1.LineStyle.Width, b1.Offset = inkMain, 0, -w/2
+	b2, err := plotter.NewBarChart(p95, w)
+	if err != nil {
+		return nil, err
+	}
+	b2.Color, b2.LineStyle.Width, b2.Offset = inkSecond, 0, w/2
+	p.Add(b1, b2)
+	p.Legend.Add("mean", b1)
+	p.Legend.Add("95th percentile", b2)
+	limit := func(v float64, label string, dash bool) error {
+		if v <= 0 {
+			return nil
+		}
+		top = math.Max(top, v)
+		l, err := plotter.NewLine(plotter.XYs{{X: -0.5, Y: v}, {X: float64(len(hs)) - 0.5, Y: v}})
+		if err != nil {
+			return err
+		}
+		l.Color = inkLimit
+		l.Width = vg.Points(1.5)
+		if dash {
+			l.Dashes = []vg.Length{vg.Points(5), vg.Points(3)}
+		}
+		p.Add(l)
+		p.Legend.Add(label, l)
+		return nil
+	}
+	if err := limit(tol.MeanMax, fmt.Sprintf("limit on the mean (%s)", tol.Name), false); err != nil {
+		return nil, err
+	}
+	if err := limit(tol.P95Max, fmt.Sprintf("limit on the 95th percentile (%s)", tol.Name), true); err != nil {
+		return nil, err
+	}
+	p.Y.Max = 1.15 * top
+	return pngOf(p)
+}
+
+// reasonWords spells a rejection key for people.
+func reasonWords(k string) string {
+	switch k {
+	case "under_exposed":
+		return "under-exposed"
+	case "shadow_edge":
+		return "shadow edge"
+	}
+	return k
+}
