@@ -8,7 +8,9 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"runtime"
 	"sync"
+	"syscall"
 	"testing"
 )
 
@@ -107,6 +109,9 @@ func benchBuild(b *testing.B, m *Mesh, threads int) {
 // benchQuery times one query kind over a ray set, single-threaded.
 func benchQuery(b *testing.B, s *Scene, set raySet, kind string) {
 	b.ReportAllocs()
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	cpu0 := threadCPU()
 	var h Hit
 	hits := 0
 	for b.Loop() {
@@ -129,6 +134,9 @@ func benchQuery(b *testing.B, s *Scene, set raySet, kind string) {
 		}
 	}
 	b.ReportMetric(float64(len(set.rays))*float64(b.N)/b.Elapsed().Seconds()*1e-6, "Mrays/s")
+	if cpu := threadCPU() - cpu0; cpu > 0 {
+		b.ReportMetric(float64(len(set.rays))*float64(b.N)/cpu*1e-6, "Mrays/cpu-s")
+	}
 	b.ReportMetric(float64(hits)/float64(len(set.rays)), "hit-fraction")
 }
 
@@ -187,6 +195,17 @@ func BenchmarkCast1600x1200(b *testing.B) {
 		}
 	}
 	b.ReportMetric(1600*1200*float64(b.N)/b.Elapsed().Seconds()*1e-6, "Mpixels/s")
+}
+
+// threadCPU returns the CPU time of the calling OS thread in seconds
+// (Linux RUSAGE_THREAD; 0 elsewhere): on a shared, overloaded machine it is
+// steadier than the wall clock.
+func threadCPU() float64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(1, &ru); err != nil {
+		return 0
+	}
+	return float64(ru.Utime.Nano()+ru.Stime.Nano()) * 1e-9
 }
 
 // The harness's own ray files, when PATINA_RAYBENCH_DIR names the folder

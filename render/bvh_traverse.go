@@ -176,10 +176,9 @@ func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
 	idx, idy, idz := q.idx, q.idy, q.idz
 	// Far distances carry Ize's padding, folded into the reciprocal.
 	fdx, fdy, fdz := idx*boxPad, idy*boxPad, idz*boxPad
-	nx, ny, nz := q.nx, q.ny, q.nz
+	nx, ny, nz := int(q.nx), int(q.ny), int(q.nz)
 	fx, fy, fz := 3-nx, 5-ny, 7-nz // far planes: min <-> max of the same axis
-	nx6, ny6, nz6, fx6, fy6, fz6 := nx+6, ny+6, nz+6, fx+6, fy+6, fz+6
-	if nx > 11 || ny > 11 || nz > 11 || fx > 11 || fy > 11 || fz > 11 || nx6 > 11 || ny6 > 11 || nz6 > 11 || fx6 > 11 || fy6 > 11 || fz6 > 11 {
+	if fz < 0 || fz > 5 || fy < 0 || fy > 5 || fx < 0 || fx > 5 || nx < 0 || nx > 5 || ny < 0 || ny > 5 || nz < 0 || nz > 5 {
 		return false // never: lets the compiler drop the box bounds checks
 	}
 	kx, ky, kz := q.kx, q.ky, q.kz
@@ -200,8 +199,8 @@ func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
 			// both ends are minima: max(a, b, c, 0) = -min(-a, -b, -c, 0).
 			n0 := min((ox-b[nx])*idx, (oy-b[ny])*idy, (oz-b[nz])*idz, 0)
 			f0 := min((b[fx]-ox)*fdx, (b[fy]-oy)*fdy, (b[fz]-oz)*fdz, tmax)
-			n1 := min((ox-b[nx6])*idx, (oy-b[ny6])*idy, (oz-b[nz6])*idz, 0)
-			f1 := min((b[fx6]-ox)*fdx, (b[fy6]-oy)*fdy, (b[fz6]-oz)*fdz, tmax)
+			n1 := min((ox-b[nx+6])*idx, (oy-b[ny+6])*idy, (oz-b[nz+6])*idz, 0)
+			f1 := min((b[fx+6]-ox)*fdx, (b[fy+6]-oy)*fdy, (b[fz+6]-oz)*fdz, tmax)
 			hit0 := -n0 <= f0
 			hit1 := -n1 <= f1
 			if hit0 && hit1 {
