@@ -5,7 +5,7 @@ package render
 // glTF writer) takes. Storage is flat and float32 so that a scan of a few
 // million triangles stays compact.
 //
-// Invariants (checked by Validate):
+// Invariants (NewScene refuses a mesh that breaks them, with a *MeshError):
 //   - len(Positions) == 3*NumVertices; Normals is empty or the same length;
 //     UVs is empty or 2*NumVertices long.
 //   - len(Indices) == 3*NumTriangles, every index < NumVertices.
