@@ -6,7 +6,7 @@ REV      := $(shell git rev-parse --short=12 HEAD 2>/dev/null)
 LDFLAGS  := -X main.revision=$(REV)
 DEMO_DIR := $(BUILD)/demo
 
-.PHONY: all deps build build-nogui demo test vet fmt-check bench fuzz clean
+.PHONY: all deps build build-nogui demo test vet fmt-check bench fuzz gui-shot clean
 
 all: build
 
@@ -25,6 +25,13 @@ demo: build
 
 test: deps vet fmt-check
 	$(GO) test -timeout 20m ./...
+	@if [ "$${CI:-}" = "true" ] || command -v Xvfb >/dev/null 2>&1; then $(MAKE) --no-print-directory gui-shot; \
+	else echo "gui-shot: Xvfb not installed, workbench screenshots skipped (make deps installs it)"; fi
+
+# Screenshots of the real workbench under Xvfb (build/gui-shots/); fails when
+# the window does not appear or a screenshot is blank.
+gui-shot: build
+	@.ci/gui-shot.sh $(BIN)
 
 vet:
 	$(GO) vet ./...
