@@ -1,6 +1,7 @@
 package main
 
 import (
+	"image/color"
 	"image/png"
 	"os"
 	"path/filepath"
@@ -108,5 +109,39 @@ func TestRenderBadInputWritesNothing(t *testing.T) {
 	code, _, stderr := runCLI(t, "render", jarCapture, "-materials", bad, "-o", out)
 	if code != 2 || !strings.Contains(stderr, `segments[0].name`) {
 		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+}
+
+// TestRenderEnvironmentFileAndLights renders with an HDR environment file
+// (written by assets/hdr), a sphere light and a directional light, in
+// direct mode, to a 16-bit PNG.
+func TestRenderEnvironmentFileAndLights(t *testing.T) {
+	dir, m := writeMaterials(t)
+	env := hdr.NewImage(16, 8)
+	for i := range env.Pix {
+		env.Pix[i] = 0.5
+	}
+	envPath := filepath.Join(dir, "env.hdr")
+	if err := hdr.WriteFile(envPath, env); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "lit.png")
+	code, _, stderr := runCLI(t, "render", jarCapture, "-materials", m, "-env", envPath, "-env-rotate", "30", "-env-scale", "2",
+		"-light", "sphere:0.3,-0.3,0.5:1,1,1:0.05", "-light", "directional:0,-1,1:0.5,0.5,0.5", "-direct",
+		"-size", "32x24", "-spp", "2", "-bits", "16", "-o", out, "-progress", "never")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	f, err := os.Open(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m := img.ColorModel(); img.Bounds().Dx() != 32 || (m != color.NRGBA64Model && m != color.RGBA64Model) {
+		t.Fatalf("image %v %T, want 32 wide, 16-bit", img.Bounds(), img)
 	}
 }
