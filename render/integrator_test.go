@@ -3,6 +3,7 @@ package render
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"testing"
 
@@ -492,4 +493,25 @@ func TestSkyLightsHorizontalPlane(t *testing.T) {
 			}
 		}
 	}
+}
+
+// ExampleRender renders the view of a calibrated camera with direct light
+// only (the fit's forward model) and reads back a pixel and its variance.
+func ExampleRender() {
+	m := &Mesh{}
+	appendQuad(m, 1, 0, 0) // a 2 m square in z = 0, segment 0
+	sc, err := NewScene(m, 0)
+	if err != nil {
+		panic(err)
+	}
+	cam := lookAt(Vec3{0, -1, 1}, Vec3{}, Vec3{0, 0, 1}, 64, 48, 50)
+	lights := &Lights{Lights: []Light{{Kind: PointLight, Position: Vec3{0.2, 0, 0.6}, Intensity: brdf.RGB{1, 1, 1}}}}
+	mats := []brdf.Params{{Kind: brdf.Dielectric, Diffuse: brdf.RGB{0.5, 0.4, 0.3}, Specular: brdf.RGB{0.04, 0.04, 0.04}, Roughness: 0.4}}
+	film, err := Render(context.Background(), sc, cam, lights, mats, Settings{SPP: 16, Direct: true, Seed: 1})
+	if err != nil {
+		panic(err)
+	}
+	L, alpha := film.Pixel(32, 24)
+	v := film.Variance(32, 24)
+	fmt.Printf("radiance %.3f, alpha %.0f, standard error %.1g\n", L, alpha, math.Sqrt(v[0]))
 }
