@@ -254,26 +254,17 @@ func photograph(ctx context.Context, c *capture.Capture, k int, lay layout, scen
 	cam, _ := c.CameraByID(p.Camera)
 	rng := newRNG(opt.Seed, 1, uint64(k))
 	scale := float64(lay.width) / 1280
-	pin := render.Pinhole{
-		Width: cam.Width, Height: cam.Height,
-		Fx: cam.Fx, Fy: cam.Fy,
-		Cx:       cam.Cx + cameraJitterPx*scale*rng.normal(),
-		Cy:       cam.Cy + cameraJitterPx*scale*rng.normal(),
-		Dist:     cam.Distortion,
-		Position: render.V3(cam.Position[0], cam.Position[1], cam.Position[2]),
-		Rotation: cam.Rotation,
-	}
+	pin := cam.Pinhole()
+	pin.Cx += cameraJitterPx * scale * rng.normal()
+	pin.Cy += cameraJitterPx * scale * rng.normal()
 	var lights render.Lights
 	for _, id := range p.Lights {
 		l, _ := c.LightByID(id)
-		rl := render.Light{Kind: render.PointLight, Intensity: brdf.RGB(l.Intensity),
-			Position: render.V3(
-				l.Position[0]+lampErrorM*rng.normal(),
-				l.Position[1]+lampErrorM*rng.normal(),
-				l.Position[2]+lampErrorM*rng.normal())}
-		if l.Type == "sphere" {
-			rl.Kind, rl.Radius = render.SphereLight, l.Radius
+		rl, err := l.RenderLight()
+		if err != nil {
+			return err
 		}
+		rl.Position = rl.Position.Add(render.V3(lampErrorM*rng.normal(), lampErrorM*rng.normal(), lampErrorM*rng.normal()))
 		lights.Lights = append(lights.Lights, rl)
 	}
 	film, err := render.Render(ctx, scene, pin, &lights, mats, render.Settings{

@@ -135,8 +135,7 @@ func TestSmallDemoCapture(t *testing.T) {
 		}
 		cam, _ := c.CameraByID(p.Camera)
 		l, _ := c.LightByID(p.Lights[0])
-		pin := render.Pinhole{Width: cam.Width, Height: cam.Height, Fx: cam.Fx, Fy: cam.Fy, Cx: cam.Cx, Cy: cam.Cy,
-			Dist: cam.Distortion, Position: render.V3(cam.Position[0], cam.Position[1], cam.Position[2]), Rotation: cam.Rotation}
+		pin := cam.Pinhole()
 		lp := render.V3(l.Position[0], l.Position[1], l.Position[2])
 		var ratios, lambert []float64
 		for y := 4; y < cam.Height-4; y += 3 {

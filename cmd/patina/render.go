@@ -237,28 +237,11 @@ func parseLight(s string) (render.Light, error) {
 	return l, nil
 }
 
-// captureLight converts a capture light.
-func captureLight(l *capture.Light) (render.Light, error) {
-	v := func(a [3]float64) render.Vec3 { return render.Vec3{X: a[0], Y: a[1], Z: a[2]} }
-	var r render.Light
-	switch l.Type {
-	case capture.LightPoint:
-		r = render.Light{Kind: render.PointLight, Position: v(l.Position), Intensity: brdf.RGB(l.Intensity)}
-	case capture.LightSphere:
-		r = render.Light{Kind: render.SphereLight, Position: v(l.Position), Intensity: brdf.RGB(l.Intensity), Radius: l.Radius}
-	case capture.LightDirectional:
-		r = render.Light{Kind: render.DirectionalLight, Direction: v(l.Direction), Irradiance: brdf.RGB(l.Irradiance)}
-	default:
-		return r, fmt.Errorf("light %q has unknown type %q", l.ID, l.Type)
-	}
-	return r, r.Validate()
-}
+// captureLight converts a capture light to the renderer's light.
+func captureLight(l *capture.Light) (render.Light, error) { return l.RenderLight() }
 
 // pinholeFromCapture converts a capture camera to the renderer's camera.
-func pinholeFromCapture(c *capture.Camera) render.Pinhole {
-	return render.Pinhole{Width: c.Width, Height: c.Height, Fx: c.Fx, Fy: c.Fy, Cx: c.Cx, Cy: c.Cy, Dist: c.Distortion,
-		Position: render.Vec3{X: c.Position[0], Y: c.Position[1], Z: c.Position[2]}, Rotation: c.Rotation}
-}
+func pinholeFromCapture(c *capture.Camera) render.Pinhole { return c.Pinhole() }
 
 // findPhoto resolves -photo: an index into the capture's photos or a file
 // name as the capture lists it (or its base name).
