@@ -62,6 +62,13 @@ func (bs *binSet) reset(nb int) {
 	}
 }
 
+func resetBins(bins *[maxBins]bin, nb int) {
+	inf := float32(math.Inf(1))
+	for k := 0; k < nb && k < maxBins; k++ {
+		bins[k] = bin{box32: box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}}
+	}
+}
+
 // box32 is a float32 box; centroid boxes hold doubled centroids (lo+hi).
 type box32 struct{ lo, hi [3]float32 }
 
@@ -268,7 +275,7 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 					m.scale[k] = 0
 				}
 			}
-			bs.reset(nb)
+			resetBins(&bs[a], nb)
 			binRefsAxis(refs, &m, a, &bs[a])
 		} else {
 			bd.binParallel(refs, m, nb, bs)
