@@ -4,6 +4,7 @@ import (
 	"image"
 	"math"
 	"sort"
+	"strings"
 
 	"patina/render"
 )
@@ -141,4 +142,27 @@ func Downsample(pix []float32, w, h, maxW, maxH int) ([]float32, int, int) {
 		}
 	}
 	return out, nw, nh
+}
+
+// wrapText breaks s into lines of at most n characters at spaces, for
+// labels inside scrolled panels, where Fyne's own wrapping measures the
+// text before the panel has its width.
+func wrapText(s string, n int) string {
+	var out []string
+	for _, para := range strings.Split(s, "\n") {
+		line := ""
+		for _, w := range strings.Fields(para) {
+			switch {
+			case line == "":
+				line = w
+			case len([]rune(line))+1+len([]rune(w)) > n:
+				out = append(out, line)
+				line = w
+			default:
+				line += " " + w
+			}
+		}
+		out = append(out, line)
+	}
+	return strings.Join(out, "\n")
 }

@@ -271,7 +271,7 @@ func (in *overlayInput) build(ctx context.Context) error {
 		for k := range gb.Hit {
 			if gb.Hit[k] {
 				c := SegmentColour(seg(k))
-				c.A = 110
+				c.A = 150
 				blend(dst, k%w, k/w, c)
 			}
 		}

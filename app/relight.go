@@ -10,6 +10,7 @@ import (
 	"math"
 	"path/filepath"
 	"strings"
+	"sync"
 	"time"
 
 	"patina/assets/atomicfile"
@@ -98,7 +99,7 @@ func (s *Session) RelightImage() *image.RGBA { return s.Relight.display }
 func (s *Session) SetRelight(r RelightState) {
 	keep := s.Relight
 	r.Pix, r.W, r.H, r.Done, r.Elapsed, r.FirstImage, r.Generation = keep.Pix, keep.W, keep.H, keep.Done, keep.Elapsed, keep.FirstImage, keep.Generation
-	r.display, r.disp, r.envKey, r.envMap, r.imageGen = keep.display, keep.disp, keep.envKey, keep.envMap, keep.imageGen
+	r.display, r.disp, r.imageGen = keep.display, keep.disp, keep.imageGen
 	s.Relight = r
 	s.RestartRelight()
 }
@@ -130,15 +131,83 @@ func (s *Session) encodeRelight() {
 	r.display = r.disp.Encode(r.display, r.Pix, r.W, r.H)
 }
 
-// relightLights builds the lights of the settings.
-func (s *Session) relightLights(r *RelightState) (*render.Lights, error) {
-	ls := &render.Lights{}
+// envCache keeps the last environment map and the last oriented
+// environment built from it, so that moving the rotation or intensity
+// slider rebuilds only the sampling tables and changing a light rebuilds
+// nothing. It is used from render goroutines, hence the mutex.
+type envCache struct {
+	mu     sync.Mutex
+	key    string
+	img    *hdr.Image
+	envKey string
+	env    *render.Environment
+}
+
+// envKey names the map of the settings.
+func envKey(r *RelightState) string {
+	switch r.Env {
+	case EnvSky:
+		return fmt.Sprintf("sky:%g,%g", r.SkyElevation, r.SkyAzimuth)
+	case EnvFile:
+		return "file:" + r.EnvFile
+	}
+	return r.Env
+}
+
+// environment returns the environment of the settings (nil for none). It
+// may take a while the first time a map is made: call it off the UI
+// goroutine.
+func (ec *envCache) environment(r *RelightState, up render.Vec3) (*render.Environment, error) {
+	if r.Env == EnvNone || r.Env == "" || r.EnvIntensity <= 0 {
+		return nil, nil
+	}
+	ec.mu.Lock()
+	defer ec.mu.Unlock()
+	key := envKey(r)
+	if key != ec.key || ec.img == nil {
+		var w, h int
+		var pix []float32
+		var err error
+		switch r.Env {
+		case EnvStudio:
+			w, h, pix, err = render.Studio{Width: envMapWidth}.Map()
+		case EnvSky:
+			w, h, pix, err = render.Sky{ElevationDeg: r.SkyElevation, AzimuthDeg: r.SkyAzimuth, Width: envMapWidth}.Map()
+		case EnvFile:
+			var img *hdr.Image
+			if img, err = hdr.ReadFile(r.EnvFile); err == nil {
+				w, h, pix = img.Width, img.Height, img.Pix
+			}
+		default:
+			err = fmt.Errorf("unknown environment %q", r.Env)
+		}
+		if err != nil {
+			return nil, err
+		}
+		ec.key, ec.img, ec.env = key, &hdr.Image{Width: w, Height: h, Pix: pix}, nil
+	}
+	full := fmt.Sprintf("%s|%g|%g|%v", key, r.EnvRotate, r.EnvIntensity, up)
+	if ec.env == nil || ec.envKey != full {
+		env, err := render.NewEnvironmentMap(ec.img.Width, ec.img.Height, ec.img.Pix,
+			render.EnvironmentOrientation{Up: up, RotateDeg: r.EnvRotate, Scale: r.EnvIntensity})
+		if err != nil {
+			return nil, err
+		}
+		ec.env, ec.envKey = env, full
+	}
+	return ec.env, nil
+}
+
+// relightLights returns the discrete lights of the settings (cheap: on
+// the UI goroutine); the environment comes from envCache in the job.
+func (s *Session) relightLights(r *RelightState) ([]render.Light, error) {
+	var ls []render.Light
 	if r.PhotoLights >= 0 && r.PhotoLights < len(s.Capture.Photos) {
 		pl, err := s.photoLights(r.PhotoLights)
 		if err != nil {
 			return nil, err
 		}
-		ls.Lights = append(ls.Lights, pl...)
+		ls = append(ls, pl...)
 	}
 	if r.Point {
 		in := r.PointIntensity
@@ -146,47 +215,15 @@ func (s *Session) relightLights(r *RelightState) (*render.Lights, error) {
 			in = s.pointIntensity()
 		}
 		d := dirAbout(s.upVec(), r.PointAzimuth, r.PointElevation)
-		ls.Lights = append(ls.Lights, render.Light{Kind: render.PointLight,
+		ls = append(ls, render.Light{Kind: render.PointLight,
 			Position: s.Centre.AddScaled(d, 3*math.Max(s.Radius, 1e-3)), Intensity: brdf.RGB{in, in, in}})
 	}
-	if r.Env != EnvNone && r.Env != "" && r.EnvIntensity > 0 {
-		key := r.Env
-		switch r.Env {
-		case EnvSky:
-			key = fmt.Sprintf("sky:%g,%g", r.SkyElevation, r.SkyAzimuth)
-		case EnvFile:
-			key = "file:" + r.EnvFile
-		}
-		if key != r.envKey || r.envMap == nil {
-			var w, h int
-			var pix []float32
-			var err error
-			switch r.Env {
-			case EnvStudio:
-				w, h, pix, err = render.Studio{Width: envMapWidth}.Map()
-			case EnvSky:
-				w, h, pix, err = render.Sky{ElevationDeg: r.SkyElevation, AzimuthDeg: r.SkyAzimuth, Width: envMapWidth}.Map()
-			case EnvFile:
-				var img *hdr.Image
-				if img, err = hdr.ReadFile(r.EnvFile); err == nil {
-					w, h, pix = img.Width, img.Height, img.Pix
-				}
-			default:
-				err = fmt.Errorf("unknown environment %q", r.Env)
-			}
-			if err != nil {
-				return nil, err
-			}
-			r.envKey, r.envMap = key, &hdr.Image{Width: w, Height: h, Pix: pix}
-		}
-		env, err := render.NewEnvironmentMap(r.envMap.Width, r.envMap.Height, r.envMap.Pix,
-			render.EnvironmentOrientation{Up: s.upVec(), RotateDeg: r.EnvRotate, Scale: r.EnvIntensity})
-		if err != nil {
+	for i := range ls {
+		if err := ls[i].Validate(); err != nil {
 			return nil, err
 		}
-		ls.Environment = env
 	}
-	return ls, ls.Validate()
+	return ls, nil
 }
 
 func (s *Session) upVec() render.Vec3 {
@@ -251,10 +288,14 @@ func (s *Session) RestartRelight() {
 	}
 	r.Generation++
 	gen := r.Generation
-	lights, err := s.relightLights(r)
+	snap := *r
+	up := s.upVec()
+	ec := &s.envs
+	start := time.Now()
+	discrete, err := s.relightLights(r)
 	if err != nil {
 		s.jobs.cancel("relight")
-		s.fail("Relighting", err, "Choose another environment or light; an environment file must be an equirectangular .hdr or .pfm.")
+		s.fail("Relighting", err, "Check the photo's lights in the capture, or choose None for the photo lights.")
 		return
 	}
 	cam, err := s.relightCamera(r)
@@ -265,7 +306,6 @@ func (s *Session) RestartRelight() {
 	mats := s.renderMaterials()
 	sc := s.Scene
 	spp := max(1, r.SPP)
-	start := time.Now()
 	cc := newCoalescer(s.post)
 	deliver := func(f *render.Film, final bool) {
 		pix := f.RGB()
@@ -291,6 +331,14 @@ func (s *Session) RestartRelight() {
 		})
 	}
 	s.jobs.start("relight", func(ctx context.Context) error {
+		env, err := ec.environment(&snap, up)
+		if err != nil {
+			return &UserError{Title: "Relighting", Err: err, Advice: "Choose another environment; an environment file must be an equirectangular .hdr or .pfm."}
+		}
+		lights := &render.Lights{Lights: discrete, Environment: env}
+		if err := ctx.Err(); err != nil {
+			return err
+		}
 		f, err := render.Render(ctx, sc, coarse(cam), lights, mats, render.Settings{SPP: 1, MaxDepth: 2, Seed: 1})
 		if err != nil {
 			return err
@@ -302,7 +350,14 @@ func (s *Session) RestartRelight() {
 		return err
 	}, func(err error) {
 		if err != nil && !errors.Is(err, context.Canceled) {
-			s.post(func() { s.fail("Relighting", err, "Change a setting to try again.") })
+			s.post(func() {
+				var ue *UserError
+				if errors.As(err, &ue) {
+					s.fail(ue.Title, ue.Err, ue.Advice)
+					return
+				}
+				s.fail("Relighting", err, "Change a setting to try again.")
+			})
 		}
 	})
 }

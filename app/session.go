@@ -147,6 +147,7 @@ type Session struct {
 	Compare CompareState
 
 	statusC *coalescer
+	envs    envCache
 	fitLast func() fit.Progress
 	// queue is set by workbench tests: the channel their Poster fills,
 	// which the test goroutine drains while it waits, standing in for the
@@ -361,6 +362,15 @@ func (s *Session) install(ld *loaded) {
 	s.notify(ChangeCapture)
 	s.notify(ChangeMaterials)
 	s.notify(ChangeDirty)
+	if s.Mesh != nil {
+		// Make the default environment map now, so the first visit to the
+		// relight view does not wait for it.
+		r, up := s.Relight, s.upVec()
+		s.jobs.start("environment", func(context.Context) error {
+			_, err := s.envs.environment(&r, up)
+			return err
+		}, nil)
+	}
 	if len(s.Capture.Photos) > 0 && s.Mesh != nil {
 		s.SelectPhoto(0)
 	}

@@ -496,3 +496,11 @@ func TestProblemPhoto(t *testing.T) {
 		}
 	}
 }
+
+func TestWrapText(t *testing.T) {
+	got := wrapText("mean dE00 1.43 < 3.5 (FADGI guidelines)\nnext", 12)
+	want := "mean dE00\n1.43 < 3.5\n(FADGI\nguidelines)\nnext"
+	if got != want {
+		t.Errorf("got %q, want %q", got, want)
+	}
+}

@@ -41,7 +41,6 @@ func newCaptureView(wb *Workbench) *captureView {
 		widget.NewLabelWithStyle("Recent captures", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), v.recent)
 
 	v.summary = widget.NewLabel("No capture open.")
-	v.summary.Wrapping = fyne.TextWrapWord
 	v.probHead = widget.NewLabelWithStyle("Check results", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
 	v.problems = widget.NewList(
 		func() int { return len(wb.S.Problems) },

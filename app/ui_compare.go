@@ -86,13 +86,10 @@ func newCompareView(wb *Workbench) *compareView {
 		}
 	})
 	v.verdict = widget.NewLabelWithStyle("", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
-	v.verdict.Wrapping = fyne.TextWrapWord
 	v.metrics = widget.NewLabel("")
-	v.metrics.Wrapping = fyne.TextWrapWord
 	v.report = widget.NewButton("Export report…", nil)
 	v.report.Disable()
-	reportNote := widget.NewLabel("The report export arrives with 'patina report'; until then save the numbers shown here.")
-	reportNote.Wrapping = fyne.TextWrapWord
+	reportNote := widget.NewLabel(wrapText("The report export arrives with 'patina report'; until then save the numbers shown here.", 40))
 	top := container.NewVBox(
 		container.NewBorder(nil, nil, widget.NewLabel("Holdout photo"), container.NewHBox(widget.NewLabel("Tolerance"), v.tol, v.runB), v.photoSel),
 		container.NewBorder(nil, nil, v.mode, nil, container.NewBorder(nil, nil, widget.NewLabel("Wipe"), nil, v.wipe)))
@@ -168,7 +165,7 @@ func (v *compareView) update(c Change) {
 	v.views.Refresh()
 	r := cs.Result
 	if cs.Verdict != nil {
-		v.verdict.SetText(cs.Verdict.String())
+		v.verdict.SetText(wrapText(cs.Verdict.String(), 40))
 		if cs.Verdict.Pass {
 			v.verdict.Importance = widget.SuccessImportance
 		} else {
@@ -185,5 +182,5 @@ func (v *compareView) update(c Change) {
 			b.WriteString("\n\nPer segment:\n" + strings.Join(lines, "\n"))
 		}
 	}
-	v.metrics.SetText(b.String())
+	v.metrics.SetText(wrapText(b.String(), 44))
 }

@@ -41,7 +41,6 @@ func newFitView(wb *Workbench) *fitView {
 	v.params.TextStyle = fyne.TextStyle{Monospace: true}
 	v.curve = NewLossCurve()
 	v.result = widget.NewLabel("")
-	v.result.Wrapping = fyne.TextWrapWord
 	v.samples = widget.NewEntry()
 	v.samples.SetText(strconv.Itoa(wb.S.Fit.Samples))
 	save := widget.NewButtonWithIcon("Save materials as…", theme.DocumentSaveIcon(), wb.SaveMaterialsAs)
@@ -125,7 +124,7 @@ func (v *fitView) update(c Change) {
 			fmt.Fprintf(&b, "\n\n%s", f.LockNote)
 		}
 		b.WriteString("\n\nThe Materials view shows the values with their uncertainty; save them with Ctrl+S.")
-		v.result.SetText(b.String())
+		v.result.SetText(wrapText(b.String(), 64))
 		v.stage.SetText("Done.")
 	}
 	if c == ChangeCapture {

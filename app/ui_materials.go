@@ -310,6 +310,9 @@ func (v *materialsView) update(c Change) {
 		if c == ChangeCapture {
 			v.sel = -1
 			v.title.SetText("Select a segment in the table to edit it.")
+			if len(v.wb.S.Materials) > 0 {
+				v.table.Select(widget.TableCellID{Row: 0, Col: 1})
+			}
 		}
 		v.fillEditor()
 	}

@@ -125,7 +125,6 @@ func newPhotosView(wb *Workbench) *photosView {
 		mk("wireframe", "Mesh wireframe (Ctrl+M)"), mk("segments", "Segment colours (Ctrl+G)"),
 		mk("mask", "Rejected pixels (Ctrl+R)"), mk("lights", "Light positions (Ctrl+L)"))
 	v.legend = widget.NewLabel("")
-	v.legend.Wrapping = fyne.TextWrapWord
 	v.useRadio = widget.NewRadioGroup([]string{capture.UseFit, capture.UseHoldout, capture.UseIgnore}, func(u string) {
 		if v.updating || u == "" || s.Selected < 0 {
 			return
@@ -136,7 +135,6 @@ func newPhotosView(wb *Workbench) *photosView {
 	})
 	v.useRadio.Horizontal = true
 	v.info = widget.NewLabel("")
-	v.info.Wrapping = fyne.TextWrapWord
 	fitBtn := widget.NewButton("Fit to view", v.viewer.FitToWindow)
 	oneBtn := widget.NewButton("1:1", v.viewer.ActualPixels)
 	prev := widget.NewButton("◀ Previous", func() { s.StepPhoto(-1) })
@@ -249,10 +247,10 @@ func (v *photosView) showInfo() {
 		filepath.Base(p.File), p.Camera, strings.Join(ls, ", "), enc, p.Exposure.Multiplier(), orNone(p.Mask)))
 	if s.Overlays.Mask && s.PhotoLoaded() {
 		rc := s.PhotoRejections()
-		v.legend.SetText(fmt.Sprintf("Kept %d pixels; left out: edge %d, grazing %d, shadow %d, saturated %d, masked %d, no segment %d (the fit's default rules).",
-			rc.Kept, rc.Border, rc.Grazing, rc.Shadow, rc.Saturated, rc.Masked, rc.Unassigned))
+		v.legend.SetText(wrapText(fmt.Sprintf("Kept %d pixels; left out: edge %d, grazing %d, shadow %d, saturated %d, masked %d, no segment %d (the fit's default rules).",
+			rc.Kept, rc.Border, rc.Grazing, rc.Shadow, rc.Saturated, rc.Masked, rc.Unassigned), 42))
 	} else {
-		v.legend.SetText("Wireframe and segment colours are drawn through this photo's calibrated camera: if they do not sit on the object, the calibration is off.")
+		v.legend.SetText(wrapText("Wireframe and segment colours are drawn through this photo's calibrated camera: if they do not sit on the object, the calibration is off.", 42))
 	}
 }
 
