@@ -110,7 +110,7 @@ type layout struct {
 func layoutFor(s Size) layout {
 	if s == Full {
 		return layout{width: 1280, height: 960, focal: 2050, stations: stations, lights: domeLights,
-			around: 448, along: 150, spp: 16}
+			around: 448, along: 150, spp: 8}
 	}
 	// Small: every station, five lights spread over the rings.
 	var ls []domeLight
