@@ -59,6 +59,9 @@ func runExport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	if err != nil {
 		return badInput(err)
 	}
+	if ps := c.Validate(); capture.Errors(ps) > 0 {
+		return badInput(&capture.Error{File: pos[0], Problems: ps})
+	}
 	m, _, err := mesh.Load(c.Resolve(c.Mesh))
 	if err != nil {
 		return badInput(err)

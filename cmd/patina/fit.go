@@ -19,6 +19,7 @@ import (
 	"golang.org/x/term"
 
 	"patina/assets/capture"
+	"patina/assets/photo"
 	"patina/brdf"
 	"patina/fit"
 )
@@ -133,6 +134,14 @@ func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	if err != nil {
 		if ctx.Err() != nil {
 			return ctx.Err()
+		}
+		// A photo that passed the header checks but fails to decode is the
+		// user's file, not an internal failure.
+		var fe *photo.FormatError
+		var ue *photo.UnsupportedError
+		var le *photo.LimitError
+		if errors.As(err, &fe) || errors.As(err, &ue) || errors.As(err, &le) {
+			return badInput(err)
 		}
 		return err
 	}
