@@ -18,9 +18,8 @@ import (
 
 // Defaults and limits of Options.
 const (
-	DefaultPilotSPP   = 4
-	DefaultMaxSPP     = 256
-	MinSPP            = 4
+	DefaultMaxSPP     = 64
+	MinSPP            = 16
 	DefaultMaxDepth   = 4
 	DefaultNoiseRatio = 0.5
 	// MaxSPPLimit bounds Options.SPP and Options.MaxSPP.
@@ -33,9 +32,6 @@ type Options struct {
 	// SPP fixes the samples per pixel of every render; 0 chooses them by
 	// the noise rule of the package documentation.
 	SPP int
-	// PilotSPP is the pilot render's samples per pixel for the rule; 0
-	// means DefaultPilotSPP (at least 2 are needed for a variance).
-	PilotSPP int
 	// MaxSPP caps the rule's choice; 0 means DefaultMaxSPP.
 	MaxSPP int
 	// NoiseRatio is the target ratio of the render's standard error to the
@@ -64,18 +60,12 @@ type Options struct {
 type Progress struct {
 	Photo, Photos int    // 1-based position among the holdout photos, and their number
 	File          string // the photo's file as the capture names it
-	Stage         string // "pilot", "render", "compare"
+	Stage         string // "render" or "compare"
 	// Fraction is the fraction of all the work done, 0..1.
 	Fraction float64
 }
 
 func (o Options) withDefaults() Options {
-	if o.PilotSPP <= 0 {
-		o.PilotSPP = DefaultPilotSPP
-	}
-	if o.PilotSPP < 2 {
-		o.PilotSPP = 2
-	}
 	if o.MaxSPP <= 0 {
 		o.MaxSPP = DefaultMaxSPP
 	}
@@ -102,8 +92,6 @@ func (o Options) Check() error {
 		return fmt.Errorf("samples per pixel %d: expected 0 (automatic) or 1..%d", o.SPP, MaxSPPLimit)
 	case o.MaxSPP < 0 || o.MaxSPP > MaxSPPLimit:
 		return fmt.Errorf("largest samples per pixel %d: expected 0 (default) or 1..%d", o.MaxSPP, MaxSPPLimit)
-	case o.PilotSPP < 0 || o.PilotSPP > MaxSPPLimit:
-		return fmt.Errorf("pilot samples per pixel %d: expected 0 (default) or 2..%d", o.PilotSPP, MaxSPPLimit)
 	case o.MaxDepth < 0 || o.MaxDepth > 1024:
 		return fmt.Errorf("depth %d: expected 0 (default) or 1..1024", o.MaxDepth)
 	case o.NoiseRatio < 0 || math.IsNaN(o.NoiseRatio) || math.IsInf(o.NoiseRatio, 0):
@@ -172,18 +160,19 @@ type Sampling struct {
 	SPP int `json:"spp"`
 	// Automatic is true when the noise rule chose SPP.
 	Automatic bool `json:"automatic"`
-	// PilotSPP is the pilot render's samples per pixel (0 without a pilot).
-	PilotSPP int `json:"pilot_spp,omitempty"`
 	// PhotoNoise is the estimated standard deviation of the photo's noise
 	// (linear radiance, capture scale); 0 when it could not be estimated.
 	PhotoNoise float64 `json:"photo_noise"`
-	// RenderNoise is the median standard error of the compared render's
-	// pixels (same units).
-	RenderNoise float64 `json:"render_noise"`
+	// RenderNoise is the median standard error of the render's pixels
+	// (same units), the quantity the rule holds against PhotoNoise;
+	// RenderNoiseRMS is the root-mean-square one, which the rare bright
+	// paths of indirect light dominate.
+	RenderNoise    float64 `json:"render_noise"`
+	RenderNoiseRMS float64 `json:"render_noise_rms"`
 	// Target is the wanted RenderNoise / PhotoNoise.
 	Target float64 `json:"target_ratio"`
-	// Capped is true when the rule wanted more than the cap allowed
-	// (WantedSPP > SPP).
+	// WantedSPP is the rule's N at the last pass evaluated; Capped is
+	// true when it exceeds SPP (the cap bound).
 	Capped    bool `json:"capped"`
 	WantedSPP int  `json:"wanted_spp,omitempty"`
 }
@@ -208,8 +197,8 @@ type Holdout struct {
 	// MaxDepth and Seed are the render's settings.
 	MaxDepth int
 	Seed     uint64
-	// RenderSeconds is the wall time of the renders (pilot included);
-	// CompareSeconds that of the metrics.
+	// RenderSeconds is the wall time of the render; CompareSeconds that
+	// of the metrics.
 	RenderSeconds  float64
 	CompareSeconds float64
 	Result         *metrics.Result
@@ -345,35 +334,64 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 	settings := render.Settings{MaxDepth: opts.MaxDepth, Seed: seed, Threads: opts.Threads}
 	start := time.Now()
 
-	// Work shares for the progress: pilot a tenth, render the rest.
-	smp := Sampling{SPP: opts.SPP, Target: opts.NoiseRatio, PhotoNoise: PhotoNoise(img.Pix, w, h, valid)}
-	renderFrom := 0.0
-	if opts.SPP == 0 {
-		smp.Automatic = true
-		smp.PilotSPP = opts.PilotSPP
-		ps := settings
-		ps.SPP = opts.PilotSPP
-		// A different seed from the final render: the pilot only sizes it.
-		ps.Seed = seed ^ 0x9e3779b97f4a7c15
-		ps.OnProgress = func(done, total int64) { progress("pilot", 0.1*float64(done)/float64(total)) }
-		pilot, err := render.Render(ctx, s.Scene, v.cam, ls, s.Params, ps)
-		if err != nil {
+	// Noise is measured away from silhouettes and segment borders, where a
+	// pixel mixes surfaces and its spread is that of the mix, not noise.
+	inner := interior(valid, v.segment, w, h)
+	smp := Sampling{SPP: opts.SPP, Target: opts.NoiseRatio, PhotoNoise: PhotoNoise(img.Pix, w, h, inner)}
+	pixels := float64(w) * float64(h)
+	var film *render.Film
+	if opts.SPP > 0 {
+		settings.SPP = opts.SPP
+		settings.OnProgress = func(done, total int64) { progress("render", 0.95*float64(done)/float64(total)) }
+		if film, err = render.Render(ctx, s.Scene, v.cam, ls, s.Params, settings); err != nil {
 			return nil, err
 		}
-		s2 := medianSampleVariance(pilot, valid) * s.Scale * s.Scale
-		smp.SPP, smp.WantedSPP = chooseSPP(s2, smp.PhotoNoise, opts.NoiseRatio, opts.MaxSPP)
-		smp.Capped = smp.WantedSPP > smp.SPP
-		renderFrom = 0.1
+	} else {
+		// The noise rule, applied to the render itself: Render works in
+		// passes of 1, 2, 4, ... samples per pixel and every sample depends
+		// only on (seed, pixel, sample index), so the film after a pass is
+		// exactly a render with that many samples. After each pass of at
+		// least MinSPP samples the rule is evaluated on the film; once met,
+		// the render is cancelled from OnPass, before the next pass takes
+		// its first tile (Render checks the context before every tile), and
+		// the film stands at that pass.
+		smp.Automatic = true
+		settings.SPP = max(opts.MaxSPP, MinSPP)
+		rctx, stop := context.WithCancel(ctx)
+		defer stop()
+		expect := float64(MinSPP)
+		stoppedAt := 0
+		settings.OnProgress = func(done, total int64) {
+			progress("render", 0.95*math.Min(float64(done)/(pixels*expect), 1))
+		}
+		settings.OnPass = func(p render.Pass) {
+			if p.SPP < MinSPP {
+				return
+			}
+			s2, _ := sampleVariance(p.Film, inner)
+			s2 *= s.Scale * s.Scale
+			_, smp.WantedSPP = chooseSPP(s2, smp.PhotoNoise, opts.NoiseRatio, opts.MaxSPP)
+			expect = float64(min(smp.WantedSPP, settings.SPP))
+			if p.SPP >= smp.WantedSPP {
+				stoppedAt = p.SPP
+				stop()
+			}
+		}
+		film, err = render.Render(rctx, s.Scene, v.cam, ls, s.Params, settings)
+		switch {
+		case ctx.Err() != nil:
+			return nil, ctx.Err()
+		case err != nil && !(errors.Is(err, context.Canceled) && stoppedAt > 0):
+			return nil, err
+		case stoppedAt > 0 && film.SPP != stoppedAt:
+			return nil, fmt.Errorf("report: internal: the render stopped at %d samples per pixel, not at the pass of %d", film.SPP, stoppedAt)
+		}
+		smp.SPP = film.SPP
+		smp.Capped = smp.WantedSPP > film.SPP
 	}
-	settings.SPP = smp.SPP
-	settings.OnProgress = func(done, total int64) {
-		progress("render", renderFrom+(0.95-renderFrom)*float64(done)/float64(total))
-	}
-	film, err := render.Render(ctx, s.Scene, v.cam, ls, s.Params, settings)
-	if err != nil {
-		return nil, err
-	}
-	smp.RenderNoise = math.Sqrt(medianSampleVariance(film, valid)/float64(film.SPP)) * s.Scale
+	med, mean := sampleVariance(film, inner)
+	smp.RenderNoise = math.Sqrt(med/float64(film.SPP)) * s.Scale
+	smp.RenderNoiseRMS = math.Sqrt(mean/float64(film.SPP)) * s.Scale
 	ho.Sampler = smp
 	ho.RenderSeconds = time.Since(start).Seconds()
 	rpix := film.RGB()
@@ -399,11 +417,35 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 	return ho, nil
 }
 
-// medianSampleVariance is the median over the valid pixels of the per-sample
-// variance of the film's pixels (Film.Variance times the samples per pixel,
-// the mean of the three channels).
-func medianSampleVariance(f *render.Film, valid []bool) float64 {
+// interior marks the valid pixels whose 3x3 neighbourhood is valid and of
+// one segment.
+func interior(valid []bool, seg []int32, w, h int) []bool {
+	out := make([]bool, w*h)
+	for y := 1; y < h-1; y++ {
+		for x := 1; x < w-1; x++ {
+			i := y*w + x
+			ok := valid[i]
+			for dy := -1; ok && dy <= 1; dy++ {
+				for dx := -1; dx <= 1; dx++ {
+					j := i + dy*w + dx
+					if !valid[j] || seg[j] != seg[i] {
+						ok = false
+						break
+					}
+				}
+			}
+			out[i] = ok
+		}
+	}
+	return out
+}
+
+// sampleVariance returns the median and the mean over the valid pixels of
+// the per-sample variance of the film's pixels (Film.Variance times the
+// samples per pixel, the mean of the three channels).
+func sampleVariance(f *render.Film, valid []bool) (median, mean float64) {
 	var vs []float64
+	var sum float64
 	for y := 0; y < f.Height; y++ {
 		for x := 0; x < f.Width; x++ {
 			if valid != nil && !valid[y*f.Width+x] {
@@ -413,18 +455,20 @@ func medianSampleVariance(f *render.Film, valid []bool) float64 {
 			m := (v[0] + v[1] + v[2]) / 3 * float64(f.SPP)
 			if !math.IsNaN(m) && !math.IsInf(m, 0) {
 				vs = append(vs, m)
+				sum += m
 			}
 		}
 	}
-	if len(vs) == 0 {
-		return 0
+	n := len(vs)
+	if n == 0 {
+		return 0, 0
 	}
 	sort.Float64s(vs)
-	if n := len(vs); n%2 == 1 {
-		return vs[n/2]
-	} else {
-		return (vs[n/2-1] + vs[n/2]) / 2
+	median = vs[n/2]
+	if n%2 == 0 {
+		median = (vs[n/2-1] + vs[n/2]) / 2
 	}
+	return median, sum / float64(n)
 }
 
 // chooseSPP applies the noise rule: the smallest N with s2/N <= (ratio *

@@ -41,7 +41,13 @@ func figureHTML(r *Report, name string) template.HTML {
 	}
 	rec, _ := r.imageRecord(name)
 	capt := template.HTMLEscapeString(rec.Caption)
-	return template.HTML(`<figure><img src="data:image/png;base64,` + base64.StdEncoding.EncodeToString(b) +
+	// Pictures of small captures are enlarged with square pixels, so that
+	// single pixels stay visible; large ones are shown at the page's width.
+	size := ""
+	if rec.Width > 0 && rec.Width < 500 {
+		size = fmt.Sprintf(` class="px" style="width: %dpx"`, 2*rec.Width)
+	}
+	return template.HTML(`<figure><img` + size + ` src="data:image/png;base64,` + base64.StdEncoding.EncodeToString(b) +
 		`" alt="` + capt + `"><figcaption>` + capt + `</figcaption></figure>`)
 }
 
@@ -96,11 +102,11 @@ var pageTemplate = template.Must(template.New("page").Funcs(template.FuncMap{
 	},
 	"sci":   func(v float64) string { return fmt.Sprintf("%.3g", v) },
 	"short": func(s string) string { return shortHash(s) },
-	"photoWord": func(n int) string {
+	"agree": func(passed, n int) string {
 		if n == 1 {
-			return "photo"
+			return "held-out photo agrees"
 		}
-		return "photos"
+		return "held-out photos agree"
 	},
 	"use":     func(r *Report, u string) int { return r.Capture.Photos[u] },
 	"deref":   func(p *[3]float64) [3]float64 { return *p },

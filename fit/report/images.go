@@ -19,7 +19,11 @@ func encodePNG(img image.Image) ([]byte, error) {
 // addImage stores a picture to embed and records its hash.
 func (r *Report) addImage(name, caption string, simulation bool, b []byte) {
 	r.images[name] = b
-	r.Images = append(r.Images, ImageRecord{Name: name, Caption: caption, Bytes: len(b), SHA256: sha256Hex(b), Simulation: simulation})
+	rec := ImageRecord{Name: name, Caption: caption, Bytes: len(b), SHA256: sha256Hex(b), Simulation: simulation}
+	if cfg, err := png.DecodeConfig(bytes.NewReader(b)); err == nil {
+		rec.Width, rec.Height = cfg.Width, cfg.Height
+	}
+	r.Images = append(r.Images, rec)
 }
 
 // addHoldoutImages encodes the strip and the two maps of holdout k.

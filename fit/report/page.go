@@ -43,6 +43,7 @@ table.facts th { width: 14em; background: none; color: var(--muted); font-weight
 .swatch { display: inline-block; width: 1.3em; height: 1.3em; border: 1px solid #888; border-radius: 3px; vertical-align: -.25em; margin-right: .4em; }
 figure { margin: 1em 0 1.4em; page-break-inside: avoid; break-inside: avoid; }
 figure img { display: block; max-width: 100%; height: auto; border: 1px solid var(--rule); }
+figure img.px { image-rendering: pixelated; }
 figcaption { font-size: .86em; color: var(--muted); margin-top: .35em; }
 .sim { font-weight: 700; color: var(--ink); letter-spacing: .04em; }
 .pair { display: grid; grid-template-columns: 1fr 1fr; gap: 1.2em; }
@@ -80,7 +81,7 @@ section.holdout { page-break-before: auto; }
 <div class="verdict {{if $r.Summary.Pass}}pass{{else}}fail{{end}}">
 <span class="badge {{if $r.Summary.Pass}}pass{{else}}fail{{end}}">{{verdictWord $r.Summary.Pass}}</span>
 <div>
-<p><strong>{{$r.Summary.Passed}} of {{$r.Summary.Holdouts}} held-out {{photoWord $r.Summary.Holdouts}} agree with the simulation</strong> within the tolerance <strong>{{$r.Tolerance.Name}}</strong>{{if $r.Tolerance.MeanMax}}: mean &Delta;E00 {{cmp $r.Tolerance}} {{f 1 $r.Tolerance.MeanMax}}{{end}}{{if $r.Tolerance.P95Max}}, 95th percentile {{cmp $r.Tolerance}} {{f 1 $r.Tolerance.P95Max}}{{end}}{{if $r.Tolerance.MaxMax}}, maximum {{cmp $r.Tolerance}} {{f 1 $r.Tolerance.MaxMax}}{{end}}.</p>
+<p><strong>{{$r.Summary.Passed}} of {{$r.Summary.Holdouts}} {{agree $r.Summary.Passed $r.Summary.Holdouts}} with the simulation</strong> within the tolerance <strong>{{$r.Tolerance.Name}}</strong>{{if $r.Tolerance.MeanMax}}: mean &Delta;E00 {{cmp $r.Tolerance}} {{f 1 $r.Tolerance.MeanMax}}{{end}}{{if $r.Tolerance.P95Max}}, 95th percentile {{cmp $r.Tolerance}} {{f 1 $r.Tolerance.P95Max}}{{end}}{{if $r.Tolerance.MaxMax}}, maximum {{cmp $r.Tolerance}} {{f 1 $r.Tolerance.MaxMax}}{{end}}.</p>
 <p class="muted">Tolerance source: {{$r.Tolerance.Source}}</p>
 </div>
 </div>
@@ -161,7 +162,7 @@ section.holdout { page-break-before: auto; }
 <tr><td><strong>whole view</strong></td><td class="n">{{$h.Metrics.Pixels}}</td><td class="n">{{f 2 $h.Metrics.DE2000Mean}}</td><td class="n">{{f 2 $h.Metrics.DE2000Median}}</td><td class="n">{{f 2 $h.Metrics.DE2000P95}}</td><td class="n">{{f 2 $h.Metrics.DE2000Max}}</td><td class="n">{{db $h.Metrics.PSNRLinear}}</td><td class="n">{{db $h.Metrics.PSNRSRGB}}</td><td class="n">{{f 4 $h.Metrics.SSIM}}</td><td><span class="badge {{if $h.Verdict.Pass}}pass{{else}}fail{{end}}">{{verdictWord $h.Verdict.Pass}}</span></td></tr>
 {{range $h.Metrics.Segments}}<tr><td>{{.Name}}</td><td class="n">{{.Pixels}}</td><td class="n">{{f 2 .DE2000Mean}}</td><td class="n">{{f 2 .DE2000Median}}</td><td class="n">{{f 2 .DE2000P95}}</td><td class="n">{{f 2 .DE2000Max}}</td><td class="n">{{db .PSNRLinear}}</td><td class="n">{{db .PSNRSRGB}}</td><td class="n">{{f 4 .SSIM}}</td><td>{{with seg $h .Index}}<span class="badge {{if .Pass}}pass{{else}}fail{{end}}">{{verdictWord .Pass}}</span>{{end}}</td></tr>
 {{end}}</table>
-<p class="muted">Noise: photograph &sigma; &asymp; {{sci $h.Sampling.PhotoNoise}}, simulation standard error &asymp; {{sci $h.Sampling.RenderNoise}} (ratio {{ratio $h.Sampling}}, target {{f 2 $h.Sampling.Target}}){{if $h.Sampling.Capped}}; <strong>the noise rule wanted {{$h.Sampling.WantedSPP}} samples per pixel but was capped at {{$h.Sampling.SPP}}</strong>{{end}}. Linear white for the metrics: {{sci $h.Metrics.Peak}}.</p>
+<p class="muted">Noise: photograph &sigma; &asymp; {{sci $h.Sampling.PhotoNoise}}, simulation standard error &asymp; {{sci $h.Sampling.RenderNoise}} on the typical pixel (ratio {{ratio $h.Sampling}}, target {{f 2 $h.Sampling.Target}}; root mean square over all pixels {{sci $h.Sampling.RenderNoiseRMS}}, dominated by rare bright paths of indirect light){{if $h.Sampling.Capped}}; <strong>the noise rule wanted {{$h.Sampling.WantedSPP}} samples per pixel but was capped at {{$h.Sampling.SPP}}</strong>{{end}}. Linear white for the metrics: {{sci $h.Metrics.Peak}}.</p>
 </section>
 {{end}}
 </section>
@@ -187,7 +188,7 @@ section.holdout { page-break-before: auto; }
 <tr><th>command line</th><td><code>{{join $r.CommandLine " "}}</code></td></tr>
 <tr><th>made</th><td>{{$r.Created}} (UTC), in {{f 1 $r.Seconds}} s</td></tr>
 <tr><th>render seeds</th><td>{{range $i, $h := $r.Holdouts}}{{if $i}}, {{end}}{{$h.File}}: {{$h.Seed}}{{end}}</td></tr>
-<tr><th>settings</th><td>samples per pixel {{if $r.Settings.SPP}}{{$r.Settings.SPP}}{{else}}automatic (pilot {{$r.Settings.PilotSPP}}, cap {{$r.Settings.MaxSPP}}, noise ratio {{f 2 $r.Settings.NoiseRatio}}){{end}}; maximum depth {{$r.Settings.MaxDepth}}; tolerance {{$r.Tolerance.Name}}</td></tr>
+<tr><th>settings</th><td>samples per pixel {{if $r.Settings.SPP}}{{$r.Settings.SPP}}{{else}}automatic (cap {{$r.Settings.MaxSPP}}, noise ratio {{f 2 $r.Settings.NoiseRatio}}){{end}}; maximum depth {{$r.Settings.MaxDepth}}; tolerance {{$r.Tolerance.Name}}</td></tr>
 <tr><th>companion files</th><td><code>{{.JSONName}}</code> holds the same facts for archives and scripts, and this page's SHA-256; <code>{{.SumsName}}</code> lists the SHA-256 of this page and of <code>{{.JSONName}}</code> (check with <code>sha256sum -c {{.SumsName}}</code>). A file cannot contain its own hash.</td></tr>
 </table>
 <h3>Input files (SHA-256)</h3>

@@ -8,6 +8,7 @@ import (
 	"sort"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -38,10 +39,20 @@ func pngOf(p *plot.Plot) ([]byte, error) {
 	return b.Bytes(), nil
 }
 
+// sans is the charts' typeface, the Liberation Sans that gonum's plot
+// embeds, close to the page's own sans-serif.
+var sans = font.Font{Typeface: "Liberation", Variant: "Sans"}
+
 func newPlot(title, ylabel string, names []string) *plot.Plot {
 	p := plot.New()
 	p.Title.Text = title
-	p.Title.TextStyle.Font.Size = vg.Points(12)
+	p.Title.TextStyle.Font = font.From(sans, 12)
+	p.Title.Padding = vg.Points(6)
+	p.X.Label.TextStyle.Font = font.From(sans, 10)
+	p.Y.Label.TextStyle.Font = font.From(sans, 10)
+	p.X.Tick.Label.Font = font.From(sans, 9)
+	p.Y.Tick.Label.Font = font.From(sans, 9)
+	p.Legend.TextStyle.Font = font.From(sans, 9)
 	p.Y.Label.Text = ylabel
 	p.Y.Min = 0
 	p.NominalX(names...)
@@ -162,7 +173,8 @@ func holdoutPlot(hs []HoldoutRecord, tol ToleranceRecord) ([]byte, error) {
 	if err := limit(tol.P95Max, fmt.Sprintf("limit on the 95th percentile (%s)", tol.Name), true); err != nil {
 		return nil, err
 	}
-	p.Y.Max = 1.15 * top
+	// Head room for the legend above the bars.
+	p.Y.Max = 1.6 * top
 	return pngOf(p)
 }
 

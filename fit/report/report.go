@@ -130,7 +130,6 @@ type SegmentRecord = materials.Segment
 type SettingsRecord struct {
 	SPP        int     `json:"spp"` // 0: chosen per photo by the noise rule
 	SPPRule    string  `json:"spp_rule"`
-	PilotSPP   int     `json:"pilot_spp"`
 	MaxSPP     int     `json:"max_spp"`
 	NoiseRatio float64 `json:"noise_ratio"`
 	MaxDepth   int     `json:"max_depth"`
@@ -213,6 +212,8 @@ type FileRecord struct {
 type ImageRecord struct {
 	Name    string `json:"name"`
 	Caption string `json:"caption"`
+	Width   int    `json:"width"`
+	Height  int    `json:"height"`
 	Bytes   int    `json:"bytes"`
 	SHA256  string `json:"sha256"`
 	// Simulation is true when the picture shows a render.
@@ -279,16 +280,16 @@ func Build(ctx context.Context, capPath, matPath string, opts Options, prov Prov
 	r.Materials = MaterialsRecord{Path: absPath(mf.Path), Capture: mf.Capture, Segments: mf.Segments, Fit: mf.Fit,
 		Scale: setup.Scale, HistoryRecorded: false,
 		HistoryNote: "The materials file records the fit's outcome (passes, final residual per segment, rejection counts) but not its loss after each pass, so no convergence curve can be drawn from it; the charts show what the file records."}
-	r.Settings = SettingsRecord{SPP: opts.SPP, PilotSPP: opts.PilotSPP, MaxSPP: opts.MaxSPP, NoiseRatio: opts.NoiseRatio,
+	r.Settings = SettingsRecord{SPP: opts.SPP, MaxSPP: opts.MaxSPP, NoiseRatio: opts.NoiseRatio,
 		MaxDepth: opts.MaxDepth, Seed: opts.Seed,
 		Light:    fmt.Sprintf("path tracing, direct and indirect light, at most %d scattering events, the photo's lights only, no environment", opts.MaxDepth),
-		SeedRule: "holdout photo k (0-based, in capture order) is rendered with seed + k; its pilot with (seed + k) xor 0x9e3779b97f4a7c15",
+		SeedRule: "holdout photo k (0-based, in capture order) is rendered with seed + k",
 		Pixels:   "pixels whose centre ray hits the mesh, inside the photo's mask, with no saturated channel",
 		Peak:     "linear white = 99.9th percentile of max(R,G,B) over the photo's compared pixels (PSNR peak, sRGB 1.0, CIELAB white)",
 	}
 	if opts.SPP == 0 {
-		r.Settings.SPPRule = fmt.Sprintf("automatic: N = ceil(s^2 / (%.2g sigma_p)^2) within [%d, %d], s^2 the median per-sample variance of a %d spp pilot, sigma_p the photo's noise (Immerkaer operator, median form)",
-			opts.NoiseRatio, MinSPP, opts.MaxSPP, opts.PilotSPP)
+		r.Settings.SPPRule = fmt.Sprintf("automatic: the first pass of %d, %d, %d, ... samples per pixel (at most %d) at which s^2 / N <= (%.2g sigma_p)^2, s^2 the median per-sample variance of the render over the compared pixels away from edges, sigma_p the photo's noise over the same pixels (Immerkaer's operator, median form)",
+			MinSPP, 2*MinSPP, 4*MinSPP, opts.MaxSPP, opts.NoiseRatio)
 	} else {
 		r.Settings.SPPRule = fmt.Sprintf("fixed: %d samples per pixel", opts.SPP)
 	}
@@ -325,8 +326,12 @@ func Build(ctx context.Context, capPath, matPath string, opts Options, prov Prov
 	if !r.Summary.Pass {
 		word = "FAIL"
 	}
-	r.Summary.Text = fmt.Sprintf("%s against %s: %d of %d held-out photos agree with the simulation within the tolerance (%s)",
-		word, t.Name, passed, len(r.Holdouts), t.Source)
+	verb := "held-out photos agree"
+	if len(r.Holdouts) == 1 {
+		verb = "held-out photo agrees"
+	}
+	r.Summary.Text = fmt.Sprintf("%s against %s: %d of %d %s with the simulation within the tolerance (%s)",
+		word, t.Name, passed, len(r.Holdouts), verb, t.Source)
 
 	if err := r.addPlots(); err != nil {
 		return nil, err

@@ -102,7 +102,6 @@ func TestChooseSPP(t *testing.T) {
 		spp, wanted      int
 	}{
 		{s2: 1e-4, sigma: 0.005, ratio: 0.5, max: 256, spp: 16, wanted: 16},    // 1e-4 / 6.25e-6 = 16
-		{s2: 1e-4, sigma: 0.005, ratio: 1, max: 256, spp: 4, wanted: 4},        // 4
 		{s2: 1e-2, sigma: 0.005, ratio: 0.5, max: 256, spp: 256, wanted: 1600}, // capped
 		{s2: 1e-8, sigma: 0.005, ratio: 0.5, max: 256, spp: MinSPP, wanted: MinSPP},
 		{s2: 1e-4, sigma: 0, ratio: 0.5, max: 64, spp: 64, wanted: 65},
@@ -344,4 +343,30 @@ func TestBadInputs(t *testing.T) {
 	if err := (Options{SPP: -1}).Check(); err == nil {
 		t.Error("negative spp accepted")
 	}
+}
+
+// TestAutomaticEqualsFixed: stopping the render at the pass the noise rule
+// picks gives the same pictures, byte for byte, as a render asked for that
+// many samples from the start.
+func TestAutomaticEqualsFixed(t *testing.T) {
+	// A ratio at which the rule stops between passes on this fixture.
+	var auto *Report
+	n := 0
+	for _, ratio := range []float64{1, 1.25, 1.5, 1.75, 2, 2.5, 3} {
+		auto, _ = buildJarSmall(t, jarSmallTruth(), Options{Threads: 2, Seed: 3, NoiseRatio: ratio, MaxSPP: 128})
+		if n = auto.Holdouts[0].Sampling.SPP; n > MinSPP && n < 128 {
+			break
+		}
+	}
+	if n <= MinSPP || n >= 128 {
+		t.Fatalf("no noise ratio made the rule stop between passes (last: %d spp)", n)
+	}
+	fixed, _ := buildJarSmall(t, jarSmallTruth(), Options{Threads: 2, Seed: 3, SPP: n})
+	for i := range auto.Images {
+		a, f := auto.Images[i], fixed.Images[i]
+		if strings.HasPrefix(a.Name, "holdout-") && a.SHA256 != f.SHA256 {
+			t.Errorf("%s differs between the automatic render (%d spp) and a fixed one", a.Name, n)
+		}
+	}
+	t.Logf("%d spp (wanted %d)", n, auto.Holdouts[0].Sampling.WantedSPP)
 }
