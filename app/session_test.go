@@ -504,3 +504,26 @@ func TestWrapText(t *testing.T) {
 		t.Errorf("got %q, want %q", got, want)
 	}
 }
+
+func TestExportReport(t *testing.T) {
+	s := openFixture(t)
+	dir := t.TempDir()
+	if _, err := s.ExportReport(filepath.Join(dir, "r.html")); err != ErrSaveFirst {
+		t.Fatalf("no materials file yet: %v", err)
+	}
+	if err := s.SaveMaterials(filepath.Join(dir, "m.json")); err != nil {
+		t.Fatal(err)
+	}
+	j, err := s.ExportReport(filepath.Join(dir, "r.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := j.Wait(); err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range []string{"r.html", "r.json"} {
+		if fi, err := os.Stat(filepath.Join(dir, f)); err != nil || fi.Size() == 0 {
+			t.Errorf("%s not written: %v", f, err)
+		}
+	}
+}

@@ -28,6 +28,7 @@ type compareView struct {
 	metrics  *widget.Label
 	report   *widget.Button
 	ids      []int
+	side     *container.Scroll
 	updating bool
 }
 
@@ -87,9 +88,17 @@ func newCompareView(wb *Workbench) *compareView {
 	})
 	v.verdict = widget.NewLabelWithStyle("", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
 	v.metrics = widget.NewLabel("")
-	v.report = widget.NewButton("Export report…", nil)
-	v.report.Disable()
-	reportNote := widget.NewLabel(wrapText("The report export arrives with 'patina report'; until then save the numbers shown here.", 40))
+	v.report = widget.NewButtonWithIcon("Export report…", theme.DocumentSaveIcon(), func() {
+		if s.CaptureDirty || s.MaterialsDirty || s.MaterialsPath == "" {
+			s.fail("Exporting the report", ErrSaveFirst, "Press Ctrl+S (or use Save materials as…), then export again.")
+			return
+		}
+		wb.saveDialog("report.html", []string{".html"}, func(path string) error {
+			_, err := s.ExportReport(path)
+			return err
+		}, "Exporting the report")
+	})
+	reportNote := widget.NewLabel(wrapText("The report renders every holdout photo with the saved materials and writes an HTML page with a JSON record beside it, as 'patina report' does.", 40))
 	top := container.NewVBox(
 		container.NewBorder(nil, nil, widget.NewLabel("Holdout photo"), container.NewHBox(widget.NewLabel("Tolerance"), v.tol, v.runB), v.photoSel),
 		container.NewBorder(nil, nil, v.mode, nil, container.NewBorder(nil, nil, widget.NewLabel("Wipe"), nil, v.wipe)))
@@ -97,6 +106,7 @@ func newCompareView(wb *Workbench) *compareView {
 		widget.NewLabelWithStyle("Verdict", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), v.verdict,
 		widget.NewSeparator(), v.metrics, widget.NewSeparator(), v.report, reportNote)))
 	side.SetMinSize(fyne.NewSize(320, 200))
+	v.side = side
 	v.root = container.NewBorder(container.NewPadded(top), nil, nil, side, v.views)
 	return v
 }
@@ -142,6 +152,7 @@ func (v *compareView) update(c Change) {
 		v.right.SetImage(nil, nil)
 		v.verdict.SetText("")
 		v.metrics.SetText("")
+		v.side.Refresh()
 		return
 	}
 	switch cs.Mode {
@@ -183,4 +194,7 @@ func (v *compareView) update(c Change) {
 		}
 	}
 	v.metrics.SetText(wrapText(b.String(), 44))
+	// The panel's size follows its labels only when it is laid out again.
+	v.side.Content.Refresh()
+	v.side.Refresh()
 }

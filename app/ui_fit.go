@@ -24,6 +24,7 @@ type fitView struct {
 	stage   *widget.Label
 	params  *widget.Label
 	curve   *LossCurve
+	side    *container.Scroll
 	result  *widget.Label
 	samples *widget.Entry
 }
@@ -52,6 +53,7 @@ func newFitView(wb *Workbench) *fitView {
 		widget.NewLabelWithStyle("Current parameters", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), v.params,
 		widget.NewSeparator(),
 		widget.NewLabelWithStyle("Result", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), v.result))
+	v.side = right
 	split := container.NewHSplit(curveBox, right)
 	split.Offset = 0.6
 	v.root = container.NewPadded(container.NewBorder(top, nil, nil, nil, split))
@@ -131,4 +133,6 @@ func (v *fitView) update(c Change) {
 		v.result.SetText("")
 		v.params.SetText("")
 	}
+	v.side.Content.Refresh()
+	v.side.Refresh()
 }

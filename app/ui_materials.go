@@ -311,7 +311,7 @@ func (v *materialsView) update(c Change) {
 			v.sel = -1
 			v.title.SetText("Select a segment in the table to edit it.")
 			if len(v.wb.S.Materials) > 0 {
-				v.table.Select(widget.TableCellID{Row: 0, Col: 1})
+				v.sel = 0 // the first segment is in the editor from the start
 			}
 		}
 		v.fillEditor()

@@ -31,6 +31,7 @@ type photosView struct {
 	info     *widget.Label
 	legend   *widget.Label
 	checks   map[string]*widget.Check
+	side     *container.Scroll
 	updating bool
 }
 
@@ -145,7 +146,8 @@ func newPhotosView(wb *Workbench) *photosView {
 		widget.NewSeparator(), container.NewGridWithColumns(2, fitBtn, oneBtn), container.NewGridWithColumns(2, prev, next),
 		widget.NewSeparator(), v.info)
 	left := container.NewBorder(filters, nil, nil, nil, v.list)
-	centre := container.NewBorder(nil, nil, nil, container.NewVScroll(container.NewPadded(side)), v.viewer)
+	v.side = container.NewVScroll(container.NewPadded(side))
+	centre := container.NewBorder(nil, nil, nil, v.side, v.viewer)
 	split := container.NewHSplit(left, centre)
 	split.Offset = 0.24
 	v.root = split
@@ -252,6 +254,8 @@ func (v *photosView) showInfo() {
 	} else {
 		v.legend.SetText(wrapText("Wireframe and segment colours are drawn through this photo's calibrated camera: if they do not sit on the object, the calibration is off.", 42))
 	}
+	v.side.Content.Refresh()
+	v.side.Refresh()
 }
 
 func orNone(s string) string {

@@ -245,8 +245,10 @@ func TestWorkbenchCompareModes(t *testing.T) {
 	if cv.mode.Selected != "Delta E 2000 map" || cv.left.img != wb.S.Compare.Maps.DeltaEImage {
 		t.Error("Delta E map not shown")
 	}
-	if !cv.report.Disabled() {
-		t.Error("report export enabled without a report function")
+	// The report is made from saved files: unsaved materials are refused
+	// with advice.
+	if _, err := wb.S.ExportReport(filepath.Join(t.TempDir(), "r.html")); err != ErrSaveFirst {
+		t.Errorf("report with unsaved materials: %v", err)
 	}
 }
 

@@ -183,7 +183,7 @@ func (wb *Workbench) onChange(c Change) {
 
 // cancelTask stops the task the status line shows.
 func (wb *Workbench) cancelTask() {
-	for _, k := range []string{"fit", "compare", "demo", "open"} {
+	for _, k := range []string{"fit", "compare", "report", "demo", "open"} {
 		if wb.S.Job(k) != nil {
 			wb.S.Cancel(k)
 			return
