@@ -23,6 +23,7 @@ type captureView struct {
 	problems *widget.List
 	probHead *widget.Label
 	recent   *fyne.Container
+	right    *fyne.Container
 }
 
 func newCaptureView(wb *Workbench) *captureView {
@@ -73,8 +74,8 @@ func newCaptureView(wb *Workbench) *captureView {
 		v.problems.Unselect(id)
 		v.showProblem(id)
 	}
-	right := container.NewBorder(container.NewVBox(intro, widget.NewSeparator(), v.summary, widget.NewSeparator(), v.probHead), nil, nil, nil, v.problems)
-	split := container.NewHSplit(container.NewPadded(left), container.NewPadded(right))
+	v.right = container.NewBorder(container.NewVBox(intro, widget.NewSeparator(), v.summary, widget.NewSeparator(), v.probHead), nil, nil, nil, v.problems)
+	split := container.NewHSplit(container.NewPadded(left), container.NewPadded(v.right))
 	split.Offset = 0.28
 	v.root = split
 	return v
@@ -176,4 +177,7 @@ func (v *captureView) update(c Change) {
 		v.probHead.SetText(fmt.Sprintf("Check results: %d errors, %d warnings (click one for details)", ne, len(s.Problems)-ne))
 	}
 	v.problems.Refresh()
+	// The summary's height changed: lay the panel out again.
+	v.right.Objects[1].Refresh()
+	v.right.Refresh()
 }
