@@ -63,7 +63,13 @@ done
 [ -n "$wid" ] || { echo "gui-shot: the workbench window did not appear" >&2; exit 1; }
 sleep 3 # the capture loads, the first photo decodes
 
-key() { xdotool windowfocus --sync "$wid" 2>/dev/null || true; xdotool key --clearmodifiers "$@"; }
+# Without a window manager the keyboard follows the pointer: keep it over
+# the window (on the status line, away from the viewers' wheel and drag).
+key() {
+  xdotool mousemove --window "$wid" 640 790 2>/dev/null || true
+  xdotool windowfocus "$wid" 2>/dev/null || true
+  xdotool key --clearmodifiers "$@"
+}
 blank() { # prints the grey standard deviation of the shot (0..1)
   convert "$1" -colorspace Gray -format "%[fx:standard_deviation]" info:
 }
