@@ -353,7 +353,9 @@ func (s *Session) install(ld *loaded) {
 	if ld.mats != nil {
 		s.applyMaterialsFile(ld.mats)
 	}
+	active := s.Relight.Active
 	s.Relight = defaultRelight()
+	s.Relight.Active = active // the view stays shown across an open
 	s.Relight.Distance = s.frameDistance()
 	s.Compare = CompareState{Photo: -1, Mode: s.Compare.Mode, Wipe: s.Compare.Wipe, Tolerance: s.Compare.Tolerance}
 	if hs := s.Capture.PhotosByUse(capture.UseHoldout); len(hs) > 0 {
