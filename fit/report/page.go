@@ -47,6 +47,7 @@ figure img.px { image-rendering: pixelated; }
 figcaption { font-size: .86em; color: var(--muted); margin-top: .35em; }
 .sim { font-weight: 700; color: var(--ink); letter-spacing: .04em; }
 .pair { display: grid; grid-template-columns: 1fr 1fr; gap: 1.2em; }
+.pair figure img { width: 100%; }
 .note { border-left: 4px solid var(--accent); background: var(--band); padding: .6em .9em; margin: .8em 0; font-size: .92em; }
 .warn { border-left-color: #b7791f; }
 ul.warnings { margin: .3em 0 .8em 1.2em; padding: 0; font-size: .9em; }
@@ -132,9 +133,9 @@ section.holdout { page-break-before: auto; }
 <tr><th>passes over the observations</th><td>{{.Passes}} (all segments)</td></tr>
 <tr><th>fit time</th><td>{{f 1 .Seconds}} s</td></tr>
 <tr><th>photos used</th><td>{{len .PhotosUsed}}</td></tr>
-<tr><th>radiometric scale</th><td>{{sci .RadiometricScale}} (photo radiance = scale &times; the radiance the capture's lights predict; applied to every simulation here)</td></tr>
+<tr><th>radiometric scale</th><td>{{printf "%.6g" .RadiometricScale}} (photo radiance = scale &times; the radiance the capture's lights predict; applied to every simulation here)</td></tr>
 <tr><th>fit seed</th><td>{{.Seed}}</td></tr>
-<tr><th>written by</th><td>patina {{.PatinaVersion}} {{.Created}}</td></tr>
+{{if or .PatinaVersion .Created}}<tr><th>written by</th><td>patina {{.PatinaVersion}} {{.Created}}</td></tr>{{end}}
 </table>{{else}}<p class="note warn">The materials file has no fit record: it was not written by a fit, so there are no diagnostics to show.</p>{{end}}
 <p class="note">{{$r.Materials.HistoryNote}}</p>
 <div class="pair">
