@@ -32,6 +32,7 @@ type photosView struct {
 	legend   *widget.Label
 	checks   map[string]*widget.Check
 	side     *container.Scroll
+	segKey   *fyne.Container
 	updating bool
 }
 
@@ -135,6 +136,7 @@ func newPhotosView(wb *Workbench) *photosView {
 		}
 	})
 	v.useRadio.Horizontal = true
+	v.segKey = container.NewGridWithColumns(2)
 	v.info = widget.NewLabel("")
 	fitBtn := widget.NewButton("Fit to view", v.viewer.FitToWindow)
 	oneBtn := widget.NewButton("1:1", v.viewer.ActualPixels)
@@ -142,7 +144,7 @@ func newPhotosView(wb *Workbench) *photosView {
 	next := widget.NewButton("Next ▶", func() { s.StepPhoto(+1) })
 	side := container.NewVBox(
 		widget.NewLabelWithStyle("This photo is used for", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), v.useRadio,
-		widget.NewSeparator(), overlays, legendSwatches(), v.legend,
+		widget.NewSeparator(), overlays, v.segKey, legendSwatches(), v.legend,
 		widget.NewSeparator(), container.NewGridWithColumns(2, fitBtn, oneBtn), container.NewGridWithColumns(2, prev, next),
 		widget.NewSeparator(), v.info)
 	left := container.NewBorder(filters, nil, nil, nil, v.list)
@@ -191,6 +193,12 @@ func (v *photosView) update(c Change) {
 		v.lightSel.SetSelected(anyChoice)
 		v.useSel.SetSelected(anyChoice)
 		s.Filter = PhotoFilter{}
+		v.segKey.RemoveAll()
+		for i, seg := range s.Segments {
+			r := canvas.NewRectangle(SegmentColour(i))
+			r.SetMinSize(fyne.NewSize(12, 12))
+			v.segKey.Add(container.NewHBox(container.NewCenter(r), widget.NewLabel(seg.Name)))
+		}
 		v.ids = s.FilteredPhotos()
 		v.list.Refresh()
 		v.viewer.Empty = "Loading…"
