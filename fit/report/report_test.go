@@ -36,7 +36,7 @@ func jarSmallTruth() []materials.Segment {
 }
 
 // writeMaterials writes a materials file for the jar-small fixture into dir.
-func writeMaterials(t *testing.T, dir string, segs []materials.Segment) string {
+func writeMaterials(t testing.TB, dir string, segs []materials.Segment) string {
 	t.Helper()
 	capPath, err := filepath.Abs("../../testdata/jar-small/capture.json")
 	if err != nil {
@@ -53,6 +53,8 @@ func writeMaterials(t *testing.T, dir string, segs []materials.Segment) string {
 }
 
 const jarSmall = "../../testdata/jar-small/capture.json"
+
+func writeMaterialsB(b *testing.B, dir string) string { return writeMaterials(b, dir, jarSmallTruth()) }
 
 // TestPhotoNoiseKnownSigma checks the noise estimate on a shaded ramp with
 // Gaussian noise of known deviation: Immerkaer's operator (CVIU 1996, from
