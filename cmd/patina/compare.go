@@ -10,6 +10,7 @@ import (
 	"image/png"
 	"io"
 	"math"
+	"os"
 	"path/filepath"
 	"strings"
 
@@ -157,6 +158,12 @@ func runCompare(ctx context.Context, args []string, stdout, stderr io.Writer) er
 	}
 	if *threads < 0 {
 		return badInputf("compare: -threads %d: expected >= 0", *threads)
+	}
+	// Fail before the work, not after it, when the maps cannot be written.
+	if *prefix != "" {
+		if st, err := os.Stat(filepath.Dir(*prefix)); err != nil || !st.IsDir() {
+			return badInputf("compare: -o %s: the directory %s does not exist", *prefix, filepath.Dir(*prefix))
+		}
 	}
 
 	var res *metrics.Result

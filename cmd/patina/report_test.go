@@ -172,6 +172,9 @@ func TestCompareImagesJSON(t *testing.T) {
 	if code, _, _ := runCLI(t, "compare", "-render", r); code != 2 {
 		t.Errorf("no photo: exit %d, want 2", code)
 	}
+	if code, _, _ := runCLI(t, "compare", "-render", p, "-photo", p, "-o", filepath.Join(dir, "missing", "x")); code != 2 {
+		t.Errorf("-o into a missing directory: exit %d, want 2", code)
+	}
 }
 
 // TestCompareCapturePhoto renders the fixture's holdout view and writes the
