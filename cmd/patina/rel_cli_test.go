@@ -5,6 +5,8 @@ import (
 	"context"
 	"encoding/binary"
 	"fmt"
+	"image"
+	"image/png"
 	"math"
 	"os"
 	"path/filepath"
@@ -75,6 +77,11 @@ func relSetup(t *testing.T) *relEnv {
  {"name": "card", "model": "dielectric", "diffuse": [0.5, 0.45, 0.4], "specular": [0.04, 0.04, 0.04], "roughness": 0.6}]}`))
 	write("m-empty.json", nil)
 	write("not-json.json", []byte("ply\nformat ascii 1.0\n"))
+	var small bytes.Buffer
+	if err := png.Encode(&small, image.NewRGBA(image.Rect(0, 0, 8, 6))); err != nil {
+		t.Fatal(err)
+	}
+	write("small.png", small.Bytes())
 
 	// Ray files of seven little-endian float32 per record.
 	rec := func(v ...float32) []byte {
@@ -220,6 +227,29 @@ var relHandCases = []relCase{
 	{name: "demo non-empty dir", args: []string{"demo", "-out", "$T/full", "-size", "small"}, want: []string{"full"}},
 	{name: "demo unknown flag", args: []string{"demo", "-out", "$T/demo", "-colour", "red"}, want: []string{"-colour"}},
 
+	// compare
+	{name: "compare no inputs", args: []string{"compare"}, want: []string{"-render R and -photo P"}},
+	{name: "compare missing render", args: []string{"compare", "-render", "$T/nothere.png", "-photo", "$BAD/../jar-small/photos/north-key.png"}, want: []string{"nothere.png"}},
+	{name: "compare sizes differ", args: []string{"compare", "-render", "$T/small.png", "-photo", "$BAD/../jar-small/photos/north-key.png"}, want: []string{"small.png", "8x6", "64x48"}},
+	{name: "compare bad pfm", args: []string{"compare", "-render", "$BAD/hdr-nan-scale.pfm", "-photo", "$BAD/../jar-small/photos/north-key.png"}, want: []string{"hdr-nan-scale.pfm", "scale"}},
+	{name: "compare truncated photo", args: []string{"compare", "-render", "$BAD/../jar-small/photos/north-key.png", "-photo", "$BAD/photo-truncated.png"}, want: []string{"photo-truncated.png"}},
+	{name: "compare scale NaN", args: []string{"compare", "-render", "$BAD/../jar-small/photos/north-key.png", "-photo", "$BAD/../jar-small/photos/north-key.png", "-scale", "NaN"}, want: []string{"-scale"}},
+	{name: "compare capture without photo", args: []string{"compare", "-capture", "$CAP", "-materials", "$M"}, want: []string{"-photo-id"}},
+	{name: "compare capture photo out of range", args: []string{"compare", "-capture", "$CAP", "-photo-id", "9", "-materials", "$M"}, want: []string{"9"}},
+	{name: "compare capture materials mismatch", args: []string{"compare", "-capture", "$CAP", "-photo-id", "0", "-materials", "$T/m-glass.json"}, want: []string{"m-glass.json", "segments[0].name"}},
+	{name: "compare tolerance", args: []string{"compare", "-render", "$BAD/../jar-small/photos/north-key.png", "-photo", "$BAD/../jar-small/photos/north-key.png", "-tolerance", "bogus"}, want: []string{"bogus"}},
+	{name: "compare output dir missing", args: []string{"compare", "-render", "$BAD/../jar-small/photos/north-key.png", "-photo", "$BAD/../jar-small/photos/north-key.png", "-o", "$T/nodir/out"}, want: []string{"does not exist"}},
+
+	// report
+	{name: "report no materials", args: []string{"report", "$CAP", "-o", "$T/out.html"}, want: []string{"-materials M.json is required"}},
+	{name: "report two captures", args: []string{"report", "$CAP", "$CAP", "-materials", "$M", "-o", "$T/out.html"}, want: []string{"got 2 arguments"}},
+	{name: "report json as page", args: []string{"report", "$CAP", "-materials", "$M", "-o", "$T/out.json"}, want: []string{"out.json", "HTML"}},
+	{name: "report seed 0", args: []string{"report", "$CAP", "-materials", "$M", "-seed", "0", "-o", "$T/out.html"}, want: []string{"-seed 0"}},
+	{name: "report output dir missing", args: []string{"report", "$CAP", "-materials", "$M", "-o", "$T/nodir/out.html"}, want: []string{"does not exist"}},
+	{name: "report materials mismatch", args: []string{"report", "$CAP", "-materials", "$T/m-glass.json", "-o", "$T/out.html"}, want: []string{"m-glass.json", "segments[0].name"}},
+	{name: "report materials other capture", args: []string{"report", "$CAP", "-materials", "$T/m-other.json", "-o", "$T/out.html"}, want: []string{"m-other.json", `"box"`}},
+	{name: "report missing capture", args: []string{"report", "$T/nothere.json", "-materials", "$M", "-o", "$T/out.html"}, want: []string{"nothere.json"}},
+
 	// check and dispatch
 	{name: "check no file", args: []string{"check"}, want: []string{"check"}},
 	{name: "check missing file", args: []string{"check", "$T/nothere.ply"}, want: []string{"nothere.ply"}},
@@ -239,7 +269,8 @@ func relTableCases(t *testing.T, e *relEnv) []relCase {
 			out = append(out,
 				relCase{name: "fit " + c.file, args: []string{"fit", f, "-o", "$T/out.json"}, want: want},
 				relCase{name: "render " + c.file, args: []string{"render", f, "-o", "$T/out.png", "-spp", "1", "-size", "8x6"}, want: want},
-				relCase{name: "export " + c.file, args: []string{"export", f, "-materials", "$M", "-o", "$T/out.glb"}, want: want})
+				relCase{name: "export " + c.file, args: []string{"export", f, "-materials", "$M", "-o", "$T/out.glb"}, want: want},
+				relCase{name: "report " + c.file, args: []string{"report", f, "-materials", "$M", "-o", "$T/out.html", "-progress", "never"}, want: want})
 		case "mesh":
 			out = append(out, relCase{name: "trace " + c.file, args: []string{"trace", "-mesh", f, "-rays", "$RAYS"}, want: want})
 		case "hdr":
@@ -343,11 +374,10 @@ func TestReliabilityBadInputs(t *testing.T) {
 		if strings.Contains(all, "panic") || strings.Contains(all, "goroutine ") {
 			fails = append(fails, "output mentions a panic")
 		}
-		for _, ext := range []string{"json", "png", "hdr", "pfm", "glb", "csv"} {
-			if _, err := os.Stat(filepath.Join(e.dir, "out."+ext)); err == nil {
-				fails = append(fails, "wrote out."+ext)
-				os.Remove(filepath.Join(e.dir, "out."+ext))
-			}
+		written, _ := filepath.Glob(filepath.Join(e.dir, "out*"))
+		for _, w := range written {
+			fails = append(fails, "wrote "+filepath.Base(w))
+			os.RemoveAll(w)
 		}
 		if g := relSettleGoroutines(g0); g > g0 {
 			fails = append(fails, fmt.Sprintf("%d goroutines before, %d after", g0, g))
