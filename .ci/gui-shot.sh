@@ -48,7 +48,15 @@ cleanup() {
 }
 trap cleanup EXIT
 export DISPLAY=":$n" LANG=en_US.UTF-8 LANGUAGE=en
-for _ in $(seq 50); do [ -e "/tmp/.X11-unix/X$n" ] && break; sleep 0.1; done
+# Ready when a client can talk to it (a stale socket of an earlier server
+# is not enough).
+ready=""
+for _ in $(seq 100); do
+  kill -0 "$xpid" 2>/dev/null || { echo "gui-shot: Xvfb :$n did not start:" >&2; cat "$out/xvfb.log" >&2; exit 1; }
+  if xdotool getdisplaygeometry >/dev/null 2>&1; then ready=1; break; fi
+  sleep 0.1
+done
+[ -n "$ready" ] || { echo "gui-shot: Xvfb :$n does not answer" >&2; exit 1; }
 
 echo "== opening the workbench on display :$n"
 "$bin" open "$demo/capture.json" "${mats[@]}" >"$out/patina.log" 2>&1 &
@@ -91,8 +99,9 @@ key ctrl+m; key ctrl+r; sleep 4; shot 4-photos-rejections
 key ctrl+r
 key ctrl+3; sleep 1; shot 5-materials
 key ctrl+4; key ctrl+f; sleep "${GUI_SHOT_FIT_WAIT:-8}"; shot 6-fit
+key Escape; sleep 1 # cancel the fit: the materials loaded with the capture stay
 key ctrl+5; sleep 5; shot 7-relight
-key ctrl+6; sleep "${GUI_SHOT_COMPARE_WAIT:-12}"; shot 8-compare-side-by-side
+key ctrl+6; sleep "${GUI_SHOT_COMPARE_WAIT:-45}"; shot 8-compare-side-by-side
 key ctrl+shift+w; sleep 1; shot 9-compare-wipe
 key ctrl+shift+w; sleep 1; shot 10-compare-delta-e
 kill -0 "$app" 2>/dev/null || { echo "gui-shot: patina died during the run:" >&2; cat "$out/patina.log" >&2; exit 1; }

@@ -39,7 +39,7 @@ var (
 	colMasked     = color.RGBA{40, 40, 40, 200}
 	colSaturated  = color.RGBA{255, 0, 200, 200}
 	colShadow     = color.RGBA{40, 80, 255, 170}
-	colWire       = color.RGBA{120, 255, 120, 200}
+	colWire       = color.RGBA{120, 255, 120, 110}
 )
 
 // SegmentColour is the overlay colour of capture segment i.
@@ -410,7 +410,8 @@ func (in *overlayInput) wireframe(dst *image.RGBA) {
 			continue
 		}
 		for j := 0; j < 3; j++ {
-			line(dst, px[j], py[j], px[(j+1)%3], py[(j+1)%3], colWire)
+			// Blended, so a dense scan reads as a mesh rather than a fill.
+			blendLine(dst, px[j], py[j], px[(j+1)%3], py[(j+1)%3], colWire)
 		}
 	}
 }
@@ -447,6 +448,20 @@ func line(dst *image.RGBA, x0, y0, x1, y1 float64, c color.RGBA) {
 			o := dst.PixOffset(x, y)
 			dst.Pix[o], dst.Pix[o+1], dst.Pix[o+2], dst.Pix[o+3] = c.R, c.G, c.B, c.A
 		}
+	}
+}
+
+// blendLine is line with c blended over the pixels (each pixel once per
+// segment).
+func blendLine(dst *image.RGBA, x0, y0, x1, y1 float64, c color.RGBA) {
+	dx, dy := x1-x0, y1-y0
+	n := int(math.Ceil(math.Max(math.Abs(dx), math.Abs(dy))))
+	if n > 4*(dst.Rect.Dx()+dst.Rect.Dy()) {
+		return
+	}
+	for i := 0; i < n; i++ { // the end point belongs to the next edge
+		t := float64(i) / float64(max(n, 1))
+		blend(dst, int(math.Round(x0+t*dx)), int(math.Round(y0+t*dy)), c)
 	}
 }
 
