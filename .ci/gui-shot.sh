@@ -98,10 +98,10 @@ key ctrl+g; key ctrl+m; sleep 3; shot 3-photos-wireframe
 key ctrl+m; key ctrl+r; sleep 4; shot 4-photos-rejections
 key ctrl+r
 key ctrl+3; sleep 1; shot 5-materials
-key ctrl+4; key ctrl+f; sleep "${GUI_SHOT_FIT_WAIT:-8}"; shot 6-fit
+key ctrl+4; key ctrl+f; sleep "${GUI_SHOT_FIT_WAIT:-15}"; shot 6-fit
 key Escape; sleep 1 # cancel the fit: the materials loaded with the capture stay
 key ctrl+5; sleep 5; shot 7-relight
-key ctrl+6; sleep "${GUI_SHOT_COMPARE_WAIT:-45}"; shot 8-compare-side-by-side
+key ctrl+6; sleep "${GUI_SHOT_COMPARE_WAIT:-75}"; shot 8-compare-side-by-side
 key ctrl+shift+w; sleep 1; shot 9-compare-wipe
 key ctrl+shift+w; sleep 1; shot 10-compare-delta-e
 kill -0 "$app" 2>/dev/null || { echo "gui-shot: patina died during the run:" >&2; cat "$out/patina.log" >&2; exit 1; }
