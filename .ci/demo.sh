@@ -47,5 +47,9 @@ echo "Results are in $out/"
 ls -1 "$out" | sed 's/^/  /'
 if has open && [ -n "${DISPLAY:-}" ]; then
   echo "== opening the workbench"
-  "$bin" open "$cap/capture.json"
+  if [ -f "$out/materials.json" ]; then
+    "$bin" open "$cap/capture.json" -materials "$out/materials.json"
+  else
+    "$bin" open "$cap/capture.json"
+  fi
 fi
