@@ -37,7 +37,8 @@ func (s *relSyncBuffer) String() string {
 // machine whose load is ten times its core count (the figure is logged).
 const relInterruptLimit = 3 * time.Second
 
-// TestReliabilitySIGINT starts fit, render and demo as real processes,
+// TestReliabilitySIGINT starts fit, render, report, compare (rendering
+// the photo's view) and demo as real processes,
 // waits until each is working (its progress output has begun), sends
 // SIGINT and checks: exit status 130, "interrupted" on stderr, the time
 // to exit, no output file, and no temporary file left in the output
@@ -68,6 +69,10 @@ func TestReliabilitySIGINT(t *testing.T) {
 			func(_, e string) bool { return strings.Contains(e, "photos ") }, filepath.Join(outDir, "m.json")},
 		{"render", []string{"render", capPath, "-materials", matPath, "-photo", "0", "-spp", "1000000", "-o", filepath.Join(outDir, "r.png"), "-progress", "always"},
 			func(_, e string) bool { return strings.Contains(e, "spp") }, filepath.Join(outDir, "r.png")},
+		{"report", []string{"report", capPath, "-materials", matPath, "-spp", "65536", "-o", filepath.Join(outDir, "r.html"), "-progress", "always"},
+			func(_, e string) bool { return strings.Contains(e, "render 1/") }, filepath.Join(outDir, "r.html")},
+		{"compare", []string{"compare", "-capture", capPath, "-photo-id", "0", "-materials", matPath, "-spp", "65536", "-o", filepath.Join(outDir, "c")},
+			func(_, _ string) bool { return true }, filepath.Join(outDir, "c-deltae.png")},
 		{"demo", []string{"demo", "-out", filepath.Join(outDir, "demo"), "-size", "small"},
 			func(o, _ string) bool { return strings.Contains(o, "Making") }, ""},
 	}
@@ -93,7 +98,7 @@ func TestReliabilitySIGINT(t *testing.T) {
 					t.Fatalf("did not start working within a minute:\n%s%s", stdout.String(), stderr.String())
 				}
 			}
-			time.Sleep(200 * time.Millisecond) // well inside the work
+			time.Sleep(500 * time.Millisecond) // well inside the work
 			t0 := time.Now()
 			if err := cmd.Process.Signal(syscall.SIGINT); err != nil {
 				t.Fatal(err)
