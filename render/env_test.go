@@ -130,8 +130,8 @@ func TestEnvironmentPDFIntegratesToOne(t *testing.T) {
 
 // TestEnvironmentSampleChiSquare compares the histogram of Sample with the
 // integral of PDF over bins that do not align with texels (equal-area bins
-// in z and phi about a tilted axis) by Pearson's chi-square test, as in the
-// sampling tests of Mitsuba and Physically Based Rendering; the p-value is
+// in z and phi about a tilted axis) by Pearson's chi-square test, in the
+// manner of the sampling tests of Physically Based Rendering; the p-value is
 // from gonum's chi-square distribution.
 func TestEnvironmentSampleChiSquare(t *testing.T) {
 	e, err := NewEnvironmentMap(32, 16, randomMap(32, 16, 5), EnvironmentOrientation{Up: Vec3{0.2, 0.1, 1}, RotateDeg: 40})
