@@ -56,3 +56,7 @@ func editDistance(a, b string) int {
 	}
 	return prev[len(b)]
 }
+
+// SuggestName returns `; did you mean "x"?` when one of names is close to
+// name, else "": the one did-you-mean rule of Patina's messages.
+func SuggestName(name string, names []string) string { return suggestName(name, names) }

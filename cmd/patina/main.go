@@ -12,6 +12,8 @@ import (
 	"io"
 	"os"
 	"os/signal"
+
+	"patina/assets/capture"
 	"runtime/debug"
 	"sort"
 	"strings"
@@ -165,36 +167,11 @@ func printHelp(w io.Writer) {
 
 // suggest returns a "; did you mean ...?" hint for a mistyped name.
 func suggest(name string) string {
-	best, bestD := "", 3
+	names := make([]string, 0, len(commands))
 	for n := range commands {
-		if d := editDistance(name, n); d < bestD || (d == bestD && n < best) {
-			best, bestD = n, d
-		}
+		names = append(names, n)
 	}
-	if best == "" {
-		return ""
-	}
-	return fmt.Sprintf("; did you mean %q?", best)
-}
-
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(b)]
+	return capture.SuggestName(name, names)
 }
 
 func init() {
