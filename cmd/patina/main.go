@@ -12,12 +12,12 @@ import (
 	"io"
 	"os"
 	"os/signal"
-
-	"patina/assets/capture"
 	"runtime/debug"
 	"sort"
 	"strings"
 	"syscall"
+
+	"patina/assets/capture"
 )
 
 // command is one row of the subcommand table: `patina help` and
