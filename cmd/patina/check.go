@@ -97,19 +97,9 @@ func runCheck(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	asJSON := fs.Bool("json", false, "print the result as JSON")
 	headers := fs.Bool("headers", false, "read only photo headers")
 	fs.Usage = func() { fmt.Fprintln(stderr, commands["check"].usage) }
-	var files []string
-	for {
-		if err := fs.Parse(args); err != nil {
-			if errors.Is(err, flag.ErrHelp) {
-				return errHelpShown
-			}
-			return badInput(err)
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		files = append(files, fs.Arg(0))
-		args = fs.Args()[1:]
+	files, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
 	}
 	if len(files) != 1 {
 		return badInputf("check: expected one FILE, got %d (see 'patina help check')", len(files))

@@ -62,19 +62,9 @@ func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	fs.BoolVar(&f.asJSON, "json", false, "print the result as JSON")
 	fs.StringVar(&f.progress, "progress", "auto", "auto, always or never")
 	fs.Usage = func() { fmt.Fprintln(stderr, fitUsage) }
-	var pos []string
-	for {
-		if err := fs.Parse(args); err != nil {
-			if errors.Is(err, flag.ErrHelp) {
-				return errHelpShown
-			}
-			return badInput(err)
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos = append(pos, fs.Arg(0))
-		args = fs.Args()[1:]
+	pos, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
 	}
 	if len(pos) != 1 {
 		return badInputf("fit: expected one capture file, got %d arguments (see 'patina help fit')", len(pos))
