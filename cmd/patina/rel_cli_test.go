@@ -115,6 +115,21 @@ func relSetup(t *testing.T) *relEnv {
 	if err := c.Save(filepath.Join(dir, "copy.json")); err != nil {
 		t.Fatal(err)
 	}
+	// The same capture with an ignored photo of a camera larger than a
+	// render may be: its file is a PNG header of that size padded to the
+	// length deflate would need at best, so the header checks pass.
+	big := c.Cameras[0]
+	big.ID, big.Width, big.Height = "big", 8200, 4100
+	big.Cx, big.Cy = float64(big.Width-1)/2, float64(big.Height-1)/2
+	c.Cameras = append(c.Cameras, big)
+	bigPNG := append(relPNGHeader(uint32(big.Width), uint32(big.Height)), make([]byte, 200<<10)...)
+	write("big.png", bigPNG)
+	ph := c.Photos[0]
+	ph.File, ph.Camera, ph.Mask, ph.Use = filepath.ToSlash(filepath.Join(dir, "big.png")), "big", "", capture.UseIgnore
+	c.Photos = append(c.Photos, ph)
+	if err := c.Save(filepath.Join(dir, "bigcam.json")); err != nil {
+		t.Fatal(err)
+	}
 	// A non-empty directory for demo without -force.
 	if err := os.MkdirAll(filepath.Join(dir, "full"), 0o755); err != nil {
 		t.Fatal(err)
@@ -171,8 +186,9 @@ var relHandCases = []relCase{
 	{name: "render orbit two numbers bad", args: []string{"render", "$CAP", "-orbit", "a,b", "-o", "$T/out.png"}, want: []string{"-orbit"}},
 	{name: "render size malformed", args: []string{"render", "$CAP", "-size", "big", "-o", "$T/out.png"}, want: []string{`-size "big"`}},
 	{name: "render size huge side", args: []string{"render", "$CAP", "-size", "100000x10", "-o", "$T/out.png"}, want: []string{`-size "100000x10"`}},
-	{name: "render size huge area", args: []string{"render", "$CAP", "-size", "65536x65536", "-o", "$T/out.png"}, want: []string{"65536x65536", "pixels"},
-		bug: "cmd/patina/render.go: -size is checked per side (<= 65536) only; the film limit render.MaxFilmPixels is found by render.Render, whose error runRender returns unmarked, so exit 1 instead of 2"},
+	{name: "render size huge area", args: []string{"render", "$CAP", "-size", "65536x65536", "-o", "$T/out.png"}, want: []string{"65536x65536", "render.MaxFilmPixels", "33554432"}},
+	{name: "render photo camera over film limit", args: []string{"render", "$T/bigcam.json", "-photo", "big.png", "-o", "$T/out.png"}, want: []string{"bigcam.json", "cameras[2]", `"big"`, "8200x4100", "render.MaxFilmPixels"}},
+	{name: "render size over film limit", args: []string{"render", "$CAP", "-size", "8193x4096", "-o", "$T/out.png"}, want: []string{"8193x4096", "33558528 pixels", "render.MaxFilmPixels"}},
 	{name: "render fov 180", args: []string{"render", "$CAP", "-fov", "180", "-o", "$T/out.png"}, want: []string{"-fov 180"}},
 	{name: "render light NaN position", args: []string{"render", "$CAP", "-light", "point:NaN,0,0:1,1,1", "-o", "$T/out.png"}, want: []string{`-light "point:NaN,0,0:1,1,1"`, "not a finite number"}},
 	{name: "render light two coordinates", args: []string{"render", "$CAP", "-light", "point:1,2:1,1,1", "-o", "$T/out.png"}, want: []string{`-light "point:1,2:1,1,1"`, "3 comma-separated"}},

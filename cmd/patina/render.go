@@ -355,9 +355,16 @@ func runRender(ctx context.Context, args []string, stdout, stderr io.Writer) err
 		if photo, err = findPhoto(c, f.photo); err != nil {
 			return badInput(err)
 		}
-		pc, _ := c.CameraByID(c.Photos[photo].Camera)
+		pc, ci := c.CameraByID(c.Photos[photo].Camera)
 		if pc == nil {
 			return badInputf("render: photo %d names camera %q, which the capture does not define", photo, c.Photos[photo].Camera)
+		}
+		// A camera may be larger than a render may be (the photo limits are
+		// higher), so the film limit is checked here, where the camera is
+		// named, rather than left to render.Render.
+		if int64(pc.Width)*int64(pc.Height) > render.MaxFilmPixels {
+			return badInputf("render: %s: cameras[%d] (%q) is %dx%d, %d pixels, over the limit render.MaxFilmPixels of %d pixels",
+				capPath, ci, pc.ID, pc.Width, pc.Height, int64(pc.Width)*int64(pc.Height), render.MaxFilmPixels)
 		}
 		cam = pinholeFromCapture(pc)
 	} else {
@@ -376,6 +383,9 @@ func runRender(ctx context.Context, args []string, stdout, stderr io.Writer) err
 		var w, h int
 		if _, err := fmt.Sscanf(f.size, "%dx%d", &w, &h); err != nil || w <= 0 || h <= 0 || w > 1<<16 || h > 1<<16 {
 			return badInputf("render: -size %q: expected WIDTHxHEIGHT, each 1..65536", f.size)
+		}
+		if int64(w)*int64(h) > render.MaxFilmPixels {
+			return badInputf("render: -size %q: %d pixels, over the limit render.MaxFilmPixels of %d pixels", f.size, int64(w)*int64(h), render.MaxFilmPixels)
 		}
 		if !(f.fov > 0 && f.fov < 180) {
 			return badInputf("render: -fov %v: expected 0 < fov < 180 degrees", f.fov)
