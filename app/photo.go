@@ -8,7 +8,6 @@ import (
 	"math"
 	"path/filepath"
 
-	"patina/assets/capture"
 	"patina/assets/photo"
 	"patina/render"
 )
@@ -68,12 +67,6 @@ func (s *Session) PhotoRejections() RejectionCounts { return s.photo.reasons }
 // PhotoLoaded reports whether the selected photo has been decoded.
 func (s *Session) PhotoLoaded() bool { return s.photo.img != nil && s.photo.index == s.Selected }
 
-// pinhole converts a capture camera.
-func pinhole(c *capture.Camera) render.Pinhole {
-	return render.Pinhole{Width: c.Width, Height: c.Height, Fx: c.Fx, Fy: c.Fy, Cx: c.Cx, Cy: c.Cy, Dist: c.Distortion,
-		Position: render.Vec3{X: c.Position[0], Y: c.Position[1], Z: c.Position[2]}, Rotation: c.Rotation}
-}
-
 // scaledPinhole is cam at a fraction f of its resolution, imaging the same
 // view: pixel centres move with the (0,0)-at-centre convention, so
 // c' = (c + 0.5) f - 0.5.
@@ -90,23 +83,6 @@ func scaledPinhole(cam render.Pinhole, f float64) render.Pinhole {
 	return cam
 }
 
-// captureLight converts a capture light to the renderer's.
-func captureLight(l *capture.Light) (render.Light, error) {
-	v := func(a [3]float64) render.Vec3 { return render.Vec3{X: a[0], Y: a[1], Z: a[2]} }
-	var r render.Light
-	switch l.Type {
-	case capture.LightPoint, "":
-		r = render.Light{Kind: render.PointLight, Position: v(l.Position), Intensity: l.Intensity}
-	case capture.LightSphere:
-		r = render.Light{Kind: render.SphereLight, Position: v(l.Position), Intensity: l.Intensity, Radius: l.Radius}
-	case capture.LightDirectional:
-		r = render.Light{Kind: render.DirectionalLight, Direction: v(l.Direction), Irradiance: l.Irradiance}
-	default:
-		return r, fmt.Errorf("light %q has unknown type %q", l.ID, l.Type)
-	}
-	return r, r.Validate()
-}
-
 // photoLights returns the renderer's lights of photo i.
 func (s *Session) photoLights(i int) ([]render.Light, error) {
 	var out []render.Light
@@ -115,7 +91,7 @@ func (s *Session) photoLights(i int) ([]render.Light, error) {
 		if l == nil {
 			return nil, fmt.Errorf("photos[%d].lights names %q, which the capture does not define", i, id)
 		}
-		rl, err := captureLight(l)
+		rl, err := l.RenderLight()
 		if err != nil {
 			return nil, err
 		}
@@ -131,7 +107,7 @@ func (s *Session) photoCamera(i int) (render.Pinhole, error) {
 	if c == nil {
 		return render.Pinhole{}, fmt.Errorf("photos[%d].camera names %q, which the capture does not define", i, id)
 	}
-	return pinhole(c), nil
+	return c.Pinhole(), nil
 }
 
 // SelectPhoto selects photo i and loads it (and its overlays) in the
