@@ -56,6 +56,12 @@ func FuzzCompare(f *testing.F) {
 				t.Fatalf("non-finite Delta E statistic in %+v", res)
 			}
 		}
+		// PSNR is +Inf for identical pixels, never NaN; SSIM is NaN only
+		// when every pixel lies in the excluded border.
+		if math.IsNaN(res.PSNRLinear) || math.IsNaN(res.PSNRSRGB) || math.IsInf(res.SSIM, 0) ||
+			(math.IsNaN(res.SSIM) && !opt.SSIMExcludeBorder) {
+			t.Fatalf("undefined PSNR or SSIM in %+v", res)
+		}
 		if len(maps.DeltaE) != n {
 			t.Fatalf("map has %d entries, want %d", len(maps.DeltaE), n)
 		}

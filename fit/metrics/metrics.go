@@ -19,11 +19,17 @@ const (
 	MaxPixels = 8192 * 8192
 	// MaxSegments is the largest number of segments Compare accepts.
 	MaxSegments = 1024
-	// MinPeak and MaxPeak bound Options.Peak, so that every float32 value
-	// divided by the peak stays far from overflow in CIEDE2000 (which
-	// raises chroma to the 7th power).
+	// MinPeak and MaxPeak bound Options.Peak, so that 1 / peak and the
+	// values divided by it are normal float64 numbers.
 	MinPeak = 1e-30
 	MaxPeak = 1e30
+	// MaxRelative bounds |value| / peak over the valid pixels of both
+	// images, whatever the peak (Options.Peak or the default): CIEDE2000
+	// raises chroma to the 7th power, and a value about 1e40 times the
+	// peak (a float32 near its largest, over a peak of 1e-9) overflows it
+	// to NaN. No image of a scene lit within its exposure comes near this
+	// bound; a value beyond it is an error that names the pixel.
+	MaxRelative = 1e12
 )
 
 // DefaultPeakPercentile is the percentile of the photo's valid max(R, G, B)
@@ -207,6 +213,9 @@ func Compare(render, photo []float32, w, h int, valid []bool, segment []int32, s
 			return nil, nil, err
 		}
 	}
+	if err := checkRange(render, photo, w, h, valid, peak, opt.Threads); err != nil {
+		return nil, nil, err
+	}
 	threads := opt.Threads
 	if threads == 0 {
 		threads = runtime.GOMAXPROCS(0)
@@ -366,7 +375,7 @@ func psnr(mse float64) float64 {
 	if mse == 0 {
 		return math.Inf(1)
 	}
-	return -10 * math.Log10(mse)
+	return -10*math.Log10(mse) + 0 // + 0: a PSNR of 0 dB, not -0
 }
 
 // gatherDeltaE copies the valid Delta E values into one buffer grouped by
@@ -446,6 +455,48 @@ func checkFinite(render, photo []float32, w, h int, valid []bool, threads int) e
 		for c := 0; c < 3; c++ {
 			if v := float64(render[3*i+c]); math.IsNaN(v) || math.IsInf(v, 0) {
 				return inputErrorf("render pixel (%d, %d) channel %d is %v in a valid pixel", i%w, i/w, c, v)
+			}
+		}
+	}
+	return nil
+}
+
+// checkRange reports the first valid pixel (in row-major order) with a
+// value beyond MaxRelative times the peak, checking bands of rows in
+// parallel.
+func checkRange(render, photo []float32, w, h int, valid []bool, peak float64, threads int) error {
+	if threads == 0 {
+		threads = runtime.GOMAXPROCS(0)
+	}
+	lim := MaxRelative * peak
+	nbands := (h + bandRows - 1) / bandRows
+	bad := make([]int, nbands) // first bad pixel of each band, or -1
+	parallel(nbands, threads, func(b int) {
+		bad[b] = -1
+		for i := b * bandRows * w; i < min((b+1)*bandRows, h)*w; i++ {
+			if valid != nil && !valid[i] {
+				continue
+			}
+			for c := 3 * i; c < 3*i+3; c++ {
+				if math.Abs(float64(photo[c])) > lim || math.Abs(float64(render[c])) > lim {
+					bad[b] = i
+					return
+				}
+			}
+		}
+	})
+	for _, i := range bad {
+		if i < 0 {
+			continue
+		}
+		for _, im := range []struct {
+			name string
+			v    []float32
+		}{{"photo", photo}, {"render", render}} {
+			for c := 0; c < 3; c++ {
+				if v := float64(im.v[3*i+c]); math.Abs(v) > lim {
+					return inputErrorf("%s pixel (%d, %d) channel %d is %g, more than %g times the linear peak %g in magnitude (CIEDE2000 would overflow); check the radiometric scale and exposure, or set Options.Peak", im.name, i%w, i/w, c, v, MaxRelative, peak)
+				}
 			}
 		}
 	}

@@ -379,3 +379,54 @@ func TestCompareErrors(t *testing.T) {
 		t.Errorf("black photo with the default peak: %v", err)
 	}
 }
+
+// TestTinyAndDenormalPeaks: the metrics depend only on the images relative
+// to the peak, so scaling both images by 1e-9 (a peak near 2.6e-9, the
+// fuzz case) or by 1e-38 (float32 subnormal values) must give the same
+// statistics as the unscaled pair; a zero peak and values beyond
+// MaxRelative times the peak are errors naming the place, never NaN.
+func TestTinyAndDenormalPeaks(t *testing.T) {
+	p := makePair(48, 36, 9, true)
+	ref, _, err := Compare(p.render, p.photo, p.w, p.h, p.valid, p.segment, nil, Options{NoImages: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []float64{1e-8, 1e-38} {
+		r, ph := make([]float32, len(p.render)), make([]float32, len(p.photo))
+		for i := range r {
+			r[i], ph[i] = float32(float64(p.render[i])*k), float32(float64(p.photo[i])*k)
+		}
+		got, _, err := Compare(r, ph, p.w, p.h, p.valid, p.segment, nil, Options{NoImages: true})
+		if err != nil {
+			t.Fatalf("scale %g: %v", k, err)
+		}
+		// Subnormal float32 keep fewer significant bits: looser at 1e-38.
+		tol := 1e-4
+		if k < 1e-30 {
+			tol = 0.05
+		}
+		a, b := ref.Stats(), got.Stats()
+		for _, c := range []struct {
+			name string
+			x, y float64
+		}{{"mean", a.DE2000Mean, b.DE2000Mean}, {"p95", a.DE2000P95, b.DE2000P95}, {"PSNR", a.PSNRSRGB, b.PSNRSRGB}, {"SSIM", a.SSIM, b.SSIM}} {
+			if math.IsNaN(c.y) || math.Abs(c.x-c.y) > tol*math.Max(1, math.Abs(c.x)) {
+				t.Errorf("scale %g (peak %g): %s %v, unscaled %v", k, got.Peak, c.name, c.y, c.x)
+			}
+		}
+	}
+	zero := make([]float32, 3*4*3)
+	if _, _, err := Compare(zero, zero, 4, 3, nil, nil, nil, Options{}); err == nil || !strings.Contains(err.Error(), "Options.Peak") {
+		t.Errorf("zero peak: %v, want an error naming Options.Peak", err)
+	}
+	photo := []float32{2.6e-9, 2.6e-9, 2.6e-9, 2.6e-9, 2.6e-9, 2.6e-9}
+	render := []float32{1e-9, 2e-9, 3e-9, 0, -3e38, 0}
+	var ie *InputError
+	if _, _, err := Compare(render, photo, 2, 1, nil, nil, nil, Options{}); !errors.As(err, &ie) || !strings.Contains(err.Error(), "render pixel (1, 0) channel 1") {
+		t.Errorf("value 1e47 times the peak: %v, want an InputError naming render pixel (1, 0) channel 1", err)
+	}
+	// The same pixel left out of the comparison is ignored.
+	if _, _, err := Compare(render, photo, 2, 1, []bool{true, false}, nil, nil, Options{}); err != nil {
+		t.Errorf("out-of-range value in an invalid pixel: %v", err)
+	}
+}
