@@ -15,13 +15,48 @@ type Grad [3][MaxParams]float64
 // horizon. Eval(p, wo, wi) == Eval(p, wi, wo) exactly: the arithmetic is
 // arranged symmetrically.
 func Eval(p *Params, wo, wi Vec) RGB {
-	if !(wo.Z > 0 && wi.Z > 0) {
-		return RGB{}
+	r, g, b := eval(p, wo, wi)
+	return RGB{r, g, b}
+}
+
+// eval is Eval with the channels as three results. Go passes arrays
+// through memory but small structs and scalars in registers; with the
+// RGB built in the small inlined wrapper above, a caller that reads the
+// channels one by one (the fit, the renderer) gets them without the
+// 24-byte copies through the stack, whose overlapping 16-byte moves stall
+// store forwarding and cost about as much as the model's arithmetic.
+func eval(p *Params, wo, wi Vec) (r, g, b float64) {
+	muO, muI := wo.Z, wi.Z
+	if !(muO > 0 && muI > 0) {
+		return
 	}
+	// geometry.set written out with scalars (the same expressions, see
+	// there): a call, or the struct in memory, costs more than this.
+	a2 := p.alpha2()
+	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
+	hxy := float64(hx*hx) + float64(hy*hy)
+	hz2 := hz * hz
+	l2 := hxy + hz2
+	q := hxy + a2*hz2
+	voh := 0.5 * math.Sqrt(l2)
+	if voh > 1 {
+		voh = 1
+	}
+	so := math.Sqrt(float64(muO*muO*(1-a2)) + a2)
+	si := math.Sqrt(float64(muI*muI*(1-a2)) + a2)
+	den := float64(muI*so) + float64(muO*si)
+	dv := (a2 * l2 * l2) / (2 * math.Pi * q * q * den)
+	w := pow5(1 - voh)
+	kd := float64((1-pow5(1-unit(muO)))*(1-pow5(1-unit(muI)))) * (1 / math.Pi)
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
-	var gm geometry
-	gm.set(p.alpha2(), wo, wi)
-	return RGB{gm.channel(d0, s0), gm.channel(d1, s1), gm.channel(d2, s2)}
+	return channel(d0, s0, dv, w, kd), channel(d1, s1, dv, w, kd), channel(d2, s2, dv, w, kd)
+}
+
+// channel returns the model's value for one channel of diffuse albedo d
+// and F0 f0, given the pair's D V, Schlick weight w and diffuse weight kd.
+func channel(d, f0, dv, w, kd float64) float64 {
+	one := 1 - f0
+	return d*one*one*kd + (f0+one*w)*dv
 }
 
 // EvalLobes returns the diffuse and specular parts of Eval separately
@@ -41,13 +76,8 @@ func EvalLobes(p *Params, wo, wi Vec) (diffuse, specular RGB) {
 	return
 }
 
-// channel returns the model's value for one channel of diffuse albedo d
-// and F0 f0. (The hot paths work on scalars: small arrays on the stack
-// cost more than the arithmetic.)
-func (g *geometry) channel(d, f0 float64) float64 {
-	one := 1 - f0
-	return d*one*one*g.kd + (f0+one*g.w)*g.dv
-}
+// channel returns the model's value for one channel (see channel).
+func (g *geometry) channel(d, f0 float64) float64 { return channel(d, f0, g.dv, g.w, g.kd) }
 
 // geometry holds the parameter-independent factors of the model for one
 // pair of directions.
@@ -121,31 +151,52 @@ func unit(x float64) float64 {
 // vector (order of Params.Vector). Below the horizon both are zero. The
 // roughness derivative is zero where Roughness < MinRoughness (the clamp).
 func EvalGrad(p *Params, wo, wi Vec, g *Grad) RGB {
+	r, gg, b := evalGrad(p, wo, wi, g)
+	return RGB{r, gg, b}
+}
+
+// evalGrad is EvalGrad with the channels as three results (see eval).
+func evalGrad(p *Params, wo, wi Vec, g *Grad) (r, gg, b float64) {
 	*g = Grad{}
 	muO, muI := wo.Z, wi.Z
 	if !(muO > 0 && muI > 0) {
-		return RGB{}
+		return
 	}
 	alpha := p.Alpha()
-	var gm geometry
-	gm.set(alpha*alpha, wo, wi)
+	a2 := alpha * alpha
+	// The geometry as in eval.
+	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
+	hxy := float64(hx*hx) + float64(hy*hy)
+	hz2 := hz * hz
+	l2 := hxy + hz2
+	q := hxy + a2*hz2
+	voh := 0.5 * math.Sqrt(l2)
+	if voh > 1 {
+		voh = 1
+	}
+	so := math.Sqrt(float64(muO*muO*(1-a2)) + a2)
+	si := math.Sqrt(float64(muI*muI*(1-a2)) + a2)
+	den := float64(muI*so) + float64(muO*si)
+	dv := (a2 * l2 * l2) / (2 * math.Pi * q * q * den)
+	w := pow5(1 - voh)
+	kd := float64((1-pow5(1-unit(muO)))*(1-pow5(1-unit(muI)))) * (1 / math.Pi)
 
 	// d(D V)/d alpha = D V (dlnD/dalpha + dlnV/dalpha), with
 	// dlnD/dalpha = 2/alpha - 4 alpha (n.h)^2 / ((n.h)^2 (alpha^2-1) + 1)
 	//             = 2/alpha - 4 alpha Hz^2 / q and
 	// dlnV/dalpha = -(muI dso + muO dsi) / den, dso = alpha (1 - muO^2) / so.
-	dso := alpha * (1 - muO*muO) / gm.so
-	dsi := alpha * (1 - muI*muI) / gm.si
-	dlog := 2/alpha - 4*alpha*gm.hz2/gm.q - (muI*dso+muO*dsi)/gm.den
+	dso := alpha * (1 - muO*muO) / so
+	dsi := alpha * (1 - muI*muI) / si
+	dlog := 2/alpha - 4*alpha*hz2/q - (muI*dso+muO*dsi)/den
 	dDVdr := 0.0
 	if p.Roughness > MinRoughness {
-		dDVdr = gm.dv * dlog * 2 * p.Roughness // dalpha/dr = 2r
+		dDVdr = dv * dlog * 2 * p.Roughness // dalpha/dr = 2r
 	}
 
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
-	f0, dd0, ds0, dr0 := gm.channelGrad(d0, s0, dDVdr)
-	f1, dd1, ds1, dr1 := gm.channelGrad(d1, s1, dDVdr)
-	f2, dd2, ds2, dr2 := gm.channelGrad(d2, s2, dDVdr)
+	f0, dd0, ds0, dr0 := channelGrad(d0, s0, dv, w, kd, dDVdr)
+	f1, dd1, ds1, dr1 := channelGrad(d1, s1, dv, w, kd, dDVdr)
+	f2, dd2, ds2, dr2 := channelGrad(d2, s2, dv, w, kd, dDVdr)
 	switch p.Kind {
 	case Dielectric:
 		g[0][0], g[0][3], g[0][4] = dd0, ds0, dr0
@@ -161,16 +212,16 @@ func EvalGrad(p *Params, wo, wi Vec, g *Grad) RGB {
 		g[1][1], g[1][4], g[1][6] = dd1, ds1, dr1
 		g[2][2], g[2][5], g[2][6] = dd2, ds2, dr2
 	}
-	return RGB{f0, f1, f2}
+	return f0, f1, f2
 }
 
-// channelGrad returns channel(d, f0) and its derivatives with respect to
-// d, f0 and the roughness r, given dDVdr = d(D V)/dr.
-func (g *geometry) channelGrad(d, f0, dDVdr float64) (f, dd, ds, dr float64) {
+// channelGrad returns channel(d, f0, dv, w, kd) and its derivatives with
+// respect to d, f0 and the roughness r, given dDVdr = d(D V)/dr.
+func channelGrad(d, f0, dv, w, kd, dDVdr float64) (f, dd, ds, dr float64) {
 	one := 1 - f0
-	f = g.channel(d, f0)
-	dd = one * one * g.kd
-	ds = (1-g.w)*g.dv - 2*d*one*g.kd
-	dr = (f0 + one*g.w) * dDVdr
+	f = d*one*one*kd + (f0+one*w)*dv
+	dd = one * one * kd
+	ds = (1-w)*dv - 2*d*one*kd
+	dr = (f0 + one*w) * dDVdr
 	return
 }

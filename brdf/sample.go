@@ -7,118 +7,127 @@ import "math"
 // probability SpecularProbability gives), u[1] and u[2] the direction. The
 // diffuse lobe is sampled with density cos(theta)/pi; the specular lobe
 // samples a microfacet normal from the GGX distribution of visible normals
-// (Heitz 2018) and reflects wo about it.
+// and reflects wo about it. The visible normals are drawn with the
+// spherical-cap construction of Dupuy and Benyoub 2023, which has exactly
+// the distribution of Heitz 2018's sampler (the density PDF states) at
+// fewer square roots.
 //
 // pdf is the combined density PDF(p, wo, wi) in 1/sr, and weight is
 // Eval(p, wo, wi) * wi.Z / pdf, the throughput of the sample. ok is false
 // when there is no sample: wo at or below the horizon, or a reflected
 // direction below it (that probability mass is lost, so PDF integrates to
-// less than 1 over the hemisphere by exactly that amount).
+// less than 1 over the hemisphere by exactly that amount). Then pdf is 0
+// and weight is zero; ok is always pdf > 0.
 func Sample(p *Params, wo Vec, u [3]float64) (wi Vec, pdf float64, weight RGB, ok bool) {
+	// The work is in sample, which takes the numbers and the weight by
+	// pointer: this wrapper is small enough to be inlined, so the arrays
+	// stay in the caller's frame instead of being copied through the stack
+	// for the call (see eval).
+	wi, pdf = sample(p, wo, &u, &weight)
+	return wi, pdf, weight, pdf > 0
+}
+
+// sample is Sample; it stores the weight in *weight only for a
+// successful sample (pdf > 0) and returns pdf 0 otherwise.
+func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64) {
 	muO := wo.Z
 	if !(muO > 0) {
-		return Vec{}, 0, RGB{}, false
+		return Vec{}, 0
 	}
-	// Both lobes start from the same uniform point on the unit disk.
 	// (The hot path is written out in one function: calls cost more than
 	// the arithmetic here, since every live value is spilled around them.)
-	r := math.Sqrt(u[1])
+	// Both lobes use the same azimuth 2 pi u[2].
 	sn, cs := sincos2pi(u[2])
-	p1, p2 := r*cs, r*sn
 
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
-	// SpecularProbability, written out.
+	// SpecularProbability, written out, as the fraction a / b.
 	w5 := pow5(1 - unit(muO))
 	o0, o1, o2 := 1-s0, 1-s1, 1-s2
-	ps := lobeShare(s0+s1+s2+(o0+o1+o2)*w5, (d0*o0*o0+d1*o1*o1+d2*o2*o2)*(1-w5))
+	a, b := lobeRatio(s0+s1+s2+(o0+o1+o2)*w5, (d0*o0*o0+d1*o1*o1+d2*o2*o2)*(1-w5))
 
 	alpha := p.Alpha()
-	if u[0] < ps {
-		// Visible normal (Heitz 2018, listing 1). Stretch the view into
-		// the configuration of the hemisphere (alpha 1).
-		vx, vy, vz := alpha*wo.X, alpha*wo.Y, wo.Z
-		// Orthonormal basis (t1, t2, vh); t1 is perpendicular to the plane
-		// of wo and the normal, which stretching does not change. One
-		// division serves both normalisations.
-		t1x, t1y := 1.0, 0.0
-		sxy := wo.X*wo.X + wo.Y*wo.Y
-		sl := math.Sqrt(vx*vx + vy*vy + vz*vz)
-		if sxy > 0 {
-			sq := math.Sqrt(sxy)
-			inv := 1 / (sq * sl)
-			k := sl * inv // 1 / sqrt(sxy)
-			t1x, t1y = -wo.Y*k, wo.X*k
-			sl = sq * inv // now 1 / |v|
-		} else {
-			sl = 1 / sl
-		}
-		vx, vy, vz = vx*sl, vy*sl, vz*sl
-		t2x, t2y, t2z := -vz*t1y, vz*t1x, vx*t1y-vy*t1x // vh x t1
-		// Warp the disk point onto the visible half of the hemisphere.
-		h := 0.5 * (1 + vz)
-		e := 1 - p1*p1
-		if e < 0 {
-			e = 0
-		}
-		q2 := (1-h)*math.Sqrt(e) + h*p2
-		e -= q2 * q2
-		if e < 0 {
-			e = 0
-		}
-		p3 := math.Sqrt(e)
-		nx := p1*t1x + q2*t2x + p3*vx
-		ny := p1*t1y + q2*t2y + p3*vy
-		nz := q2*t2z + p3*vz
-		if nz < 0 {
-			nz = 0
-		}
-		// Unstretch to the normal m (not normalised), then reflect:
-		// wi = 2 (wo.m) m / |m|^2 - wo.
-		mx, my, mz := alpha*nx, alpha*ny, nz
+	a2 := alpha * alpha
+	// so is both the length of wo stretched to the hemisphere
+	// configuration, |(alpha wo.X, alpha wo.Y, wo.Z)|, and the term of the
+	// Smith visibility below: for a unit wo they are the same number.
+	so := math.Sqrt(float64(muO*muO*(1-a2)) + a2)
+	if u[0]*b < a { // u[0] < a / b without the division
+		// Visible normal by spherical caps (Dupuy and Benyoub 2023,
+		// listing 3): in the hemisphere configuration (alpha 1) the
+		// visible normals are v + c, with v the stretched unit view and c
+		// uniform on the spherical cap z > -v.z of the unit sphere. That
+		// is the same distribution as Heitz 2018's projected disk, with
+		// no orthonormal basis and no second warp.
+		inv := 1 / so
+		vx, vy, vz := alpha*wo.X*inv, alpha*wo.Y*inv, muO*inv
+		// z = (1 - u1)(1 + vz) - vz is uniform on (-vz, 1]; its sine
+		// from (1 - z)(1 + z), free of cancellation near the poles.
+		t := (1 - u[1]) * (1 + vz)
+		st := math.Sqrt(u[1] * (1 + vz) * (t + (1 - vz)))
+		// h = v + c (z of h is t), unstretched to the normal m (not
+		// normalised); then reflect: wi = 2 (wo.m) m / |m|^2 - wo.
+		mx, my, mz := alpha*(st*cs+vx), alpha*(st*sn+vy), t
 		m2 := mx*mx + my*my + mz*mz
 		if !(m2 > 0) {
-			return Vec{}, 0, RGB{}, false
+			return Vec{}, 0
 		}
 		k := 2 * (wo.X*mx + wo.Y*my + wo.Z*mz) / m2
 		wi = Vec{k*mx - wo.X, k*my - wo.Y, k*mz - wo.Z}
 	} else {
-		// Cosine-weighted hemisphere (Malley's method).
+		// Cosine-weighted hemisphere (Malley's method): a uniform point
+		// on the unit disk lifted to the hemisphere.
+		r := math.Sqrt(u[1])
 		z := 1 - u[1]
 		if z < 0 {
 			z = 0
 		}
-		wi = Vec{p1, p2, math.Sqrt(z)}
+		wi = Vec{r * cs, r * sn, math.Sqrt(z)}
 	}
-	if !(wi.Z > 0) {
-		return wi, 0, RGB{}, false
-	}
-	// With D V = x / (p den) and S = muO + so,
-	//   pdf      = ps x / (p S) + (1 - ps) muI / pi = n / (pi p S den),
-	//   n        = pi ps x den + (1 - ps) muI p S den,
-	//   f_c      = (diff_c p den + spec_c x) / (p den),
-	//   weight_c = f_c muI / pdf = (diff_c p den + spec_c x) muI pi S / n,
-	// so one division, r = 1 / (n pi p S den), gives both pdf = n^2 r and
-	// 1 / n = (pi p S den) r: one division instead of three.
-	var gm geometry
-	gm.prepare(alpha*alpha, wo, wi)
 	muI := wi.Z
-	pd := gm.p * gm.den
-	t := math.Pi * (muO + gm.so) * pd
-	n := math.Pi*ps*gm.x*gm.den + (1-ps)*muI*(muO+gm.so)*pd
-	rr := 1 / (n * t)
+	if !(muI > 0) {
+		return wi, 0
+	}
+	// The geometry of the pair as in geometry.prepare, with so known and
+	// 1 - (1-muO)^5 = 1 - w5.
+	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
+	hxy := float64(hx*hx) + float64(hy*hy)
+	hz2 := hz * hz
+	l2 := hxy + hz2
+	q := hxy + a2*hz2
+	voh := 0.5 * math.Sqrt(l2)
+	if voh > 1 {
+		voh = 1
+	}
+	si := math.Sqrt(float64(muI*muI*(1-a2)) + a2)
+	den := float64(muI*so) + float64(muO*si)
+	x := a2 * l2 * l2
+	pd := 2 * math.Pi * q * q * den
+	w := pow5(1 - voh)
+	kd := (1 - w5) * (1 - pow5(1-unit(muI))) * (1 / math.Pi)
+
+	// With D V = x / pd (geometry), S = muO + so and ps = a / b,
+	//   pdf      = ps x / (2 pi q^2 S) + (1 - ps) muI / pi = n / (b t),
+	//   t        = pi S pd,
+	//   n        = pi a x den + (b - a) muI S pd,
+	//   f_c      = (diff_c pd + spec_c x) / pd,
+	//   weight_c = f_c muI / pdf = (diff_c pd + spec_c x) muI pi S b / n,
+	// so one division, rr = 1 / (n b t), gives both pdf = n^2 rr and
+	// 1 / n = b t rr: one division instead of four.
+	sS := muO + so
+	t2 := math.Pi * sS * pd
+	n := math.Pi*a*x*den + (b-a)*muI*sS*pd
+	rr := 1 / (n * b * t2)
 	pdf = n * n * rr
 	if !(pdf > 0) || math.IsInf(rr, 0) {
-		return wi, 0, RGB{}, false
+		return wi, 0
 	}
-	k := muI * math.Pi * (muO + gm.so) * t * rr
-	w0, w1, w2 := gm.parts(d0, s0, pd), gm.parts(d1, s1, pd), gm.parts(d2, s2, pd)
-	return wi, pdf, RGB{w0 * k, w1 * k, w2 * k}, true
-}
-
-// parts returns diff p den + spec x for one channel (see Sample).
-func (g *geometry) parts(d, f0, pd float64) float64 {
-	one := 1 - f0
-	return d*one*one*g.kd*pd + (f0+one*g.w)*g.x
+	kk := muI * math.Pi * sS * b * b * t2 * rr
+	kd *= pd
+	e0, e1, e2 := 1-s0, 1-s1, 1-s2
+	weight[0] = (d0*e0*e0*kd + (s0+e0*w)*x) * kk
+	weight[1] = (d1*e1*e1*kd + (s1+e1*w)*x) * kk
+	weight[2] = (d2*e2*e2*kd + (s2+e2*w)*x) * kk
+	return wi, pdf
 }
 
 // PDF returns the density in 1/sr with which Sample draws wi given wo:
@@ -133,15 +142,20 @@ func PDF(p *Params, wo, wi Vec) float64 {
 		return 0
 	}
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
-	ps := specularProbability(d0, d1, d2, s0, s1, s2, muO)
+	a, b := specularRatio(d0, d1, d2, s0, s1, s2, muO)
 	a2 := p.alpha2()
-	// D as in geometry.set: alpha^2 |H|^4 / (pi q^2), H = wo + wi.
+	// D as in geometry.set: alpha^2 |H|^4 / (pi q^2), H = wo + wi; the
+	// specular density is X / Y with X = alpha^2 |H|^4 and
+	// Y = 2 pi q^2 (muO + so), and ps = a / b, so
+	// ps X / Y + (1 - ps) muI / pi = (a X + (b - a) (muI / pi) Y) / (b Y):
+	// one division.
 	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
 	hxy := float64(hx*hx) + float64(hy*hy)
 	l2 := hxy + hz*hz
 	q := hxy + a2*(hz*hz)
 	so := math.Sqrt(float64(muO*muO*(1-a2)) + a2)
-	return ps*a2*l2*l2/(2*math.Pi*q*q*(muO+so)) + (1-ps)*muI*(1/math.Pi)
+	y := 2 * math.Pi * q * q * (muO + so)
+	return (a*a2*l2*l2 + (b-a)*muI*(1/math.Pi)*y) / (b * y)
 }
 
 // SpecularProbability returns the probability that Sample picks the
@@ -155,29 +169,34 @@ func SpecularProbability(p *Params, wo Vec) float64 {
 		return 0
 	}
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
-	return specularProbability(d0, d1, d2, s0, s1, s2, wo.Z)
+	a, b := specularRatio(d0, d1, d2, s0, s1, s2, wo.Z)
+	return a / b
 }
 
-func specularProbability(d0, d1, d2, s0, s1, s2, muO float64) float64 {
+// specularRatio returns SpecularProbability as a fraction a / b (b > 0),
+// so the hot paths can fold the division into their own.
+func specularRatio(d0, d1, d2, s0, s1, s2, muO float64) (a, b float64) {
 	w := pow5(1 - unit(muO))
 	o0, o1, o2 := 1-s0, 1-s1, 1-s2
-	return lobeShare(s0+s1+s2+(o0+o1+o2)*w, (d0*o0*o0+d1*o1*o1+d2*o2*o2)*(1-w))
+	return lobeRatio(s0+s1+s2+(o0+o1+o2)*w, (d0*o0*o0+d1*o1*o1+d2*o2*o2)*(1-w))
 }
 
-// lobeShare returns the specular probability for the specular and diffuse
-// albedo estimates ws and wd.
-func lobeShare(ws, wd float64) float64 {
+// lobeRatio returns the specular probability for the specular and diffuse
+// albedo estimates ws and wd as a fraction a / b: ws / (ws + wd) kept
+// within [0.05, 0.95], 1 when there is no diffuse part.
+func lobeRatio(ws, wd float64) (a, b float64) {
 	if !(wd > 0) {
-		return 1
+		return 1, 1
 	}
 	if !(ws > 0) {
-		return 0.05
+		return 0.05, 1
 	}
-	ps := ws / (ws + wd)
-	if !(ps > 0.05) {
-		ps = 0.05
-	} else if ps > 0.95 {
-		ps = 0.95
+	tot := ws + wd
+	if !(ws > 0.05*tot) {
+		return 0.05, 1
 	}
-	return ps
+	if ws > 0.95*tot {
+		return 0.95, 1
+	}
+	return ws, tot
 }
