@@ -81,6 +81,18 @@ type Settings struct {
 	// lambertian replaces brdf's model by the ideal Lambertian Diffuse/pi
 	// with cosine sampling (tests against analytic results only).
 	lambertian bool
+	// IndirectClamp, if positive, is the largest radiance (per channel,
+	// W/(m^2 sr)) that any one contribution of light scattered by two or
+	// more surfaces may add to a sample; a larger one is scaled down to it,
+	// keeping its hue. Light seen directly or after one scattering is never
+	// clamped. It trades a little energy in caustics (a glossy surface
+	// focusing a small lamp onto a rough one) for freedom from isolated
+	// bright pixels at low sample counts, the usual bias-for-variance
+	// trade of production path tracers (common practice; discussed by
+	// Kaplanyan and Dachsbacher, "Path Space Regularization for Holistic
+	// and Robust Light Transport", Computer Graphics Forum 32(2), 2013).
+	// 0 means no clamp.
+	IndirectClamp float64
 	// OnPass, if set, is called after each progressive pass (1, 2, 4, ...
 	// samples per pixel, ending at SPP) on the goroutine that called
 	// Render, with the film as it stands; the film must not be kept or
@@ -320,9 +332,7 @@ func (it *integrator) sample(smp *Sampler, x, y int, rays *int64) (L brdf.RGB, a
 				alpha = 1
 			}
 			Le := l.radiance()
-			for c := 0; c < 3; c++ {
-				L[c] += beta[c] * Le[c] * w
-			}
+			it.add(&L, beta, brdf.RGB{Le[0] * w, Le[1] * w, Le[2] * w}, depth)
 			return L, alpha, nil
 		}
 		if !hit {
@@ -344,9 +354,7 @@ func (it *integrator) sample(smp *Sampler, x, y int, rays *int64) (L brdf.RGB, a
 				}
 				if w > 0 {
 					Le := it.env.Radiance(ray.D)
-					for c := 0; c < 3; c++ {
-						L[c] += beta[c] * Le[c] * w
-					}
+					it.add(&L, beta, brdf.RGB{Le[0] * w, Le[1] * w, Le[2] * w}, depth)
 				}
 			}
 			return L, alpha, nil
@@ -359,10 +367,7 @@ func (it *integrator) sample(smp *Sampler, x, y int, rays *int64) (L brdf.RGB, a
 			return L, alpha, fmt.Errorf("render: the mesh has segment %d but only %d materials were given", seg, len(it.mats))
 		}
 		if seg < len(it.s.Emission) {
-			Le := &it.s.Emission[seg]
-			for c := 0; c < 3; c++ {
-				L[c] += beta[c] * Le[c]
-			}
+			it.add(&L, beta, it.s.Emission[seg], depth)
 		}
 		if depth >= it.s.MaxDepth {
 			return L, alpha, nil
@@ -412,9 +417,7 @@ func (it *integrator) sample(smp *Sampler, x, y int, rays *int64) (L brdf.RGB, a
 			if it.sc.Occluded(Ray{O: p, D: ls.wi}, shadowDistance(ls.dist)) {
 				continue
 			}
-			for j := 0; j < 3; j++ {
-				L[j] += beta[j] * c[j]
-			}
+			it.add(&L, beta, c, depth+1)
 		}
 		if it.env != nil {
 			u0, u1 := smp.Get2D()
@@ -431,9 +434,7 @@ func (it *integrator) sample(smp *Sampler, x, y int, rays *int64) (L brdf.RGB, a
 						if c[0] > 0 || c[1] > 0 || c[2] > 0 {
 							*rays++
 							if !it.sc.Occluded(Ray{O: p, D: d}, math.Inf(1)) {
-								for j := 0; j < 3; j++ {
-									L[j] += beta[j] * c[j]
-								}
+								it.add(&L, beta, c, depth+1)
 							}
 						}
 					}
@@ -470,6 +471,21 @@ func (it *integrator) sample(smp *Sampler, x, y int, rays *int64) (L brdf.RGB, a
 		prevP, prevPdf = p, pdf
 		ray = Ray{O: p, D: d}
 	}
+}
+
+// add adds beta*c to L; scattered is the number of surfaces the light
+// has scattered from before reaching the camera.
+func (it *integrator) add(L *brdf.RGB, beta, c brdf.RGB, scattered int) {
+	v := brdf.RGB{beta[0] * c[0], beta[1] * c[1], beta[2] * c[2]}
+	if m := it.s.IndirectClamp; m > 0 && scattered >= 2 {
+		if peak := math.Max(v[0], math.Max(v[1], v[2])); peak > m {
+			k := m / peak
+			v[0], v[1], v[2] = v[0]*k, v[1]*k, v[2]*k
+		}
+	}
+	L[0] += v[0]
+	L[1] += v[1]
+	L[2] += v[2]
 }
 
 func (it *integrator) eval(p *brdf.Params, wo, wi brdf.Vec) brdf.RGB {

@@ -86,6 +86,15 @@ const (
 	lampErrorM     = 0.002
 )
 
+// indirectClampFS bounds what any one path sample may add through two or
+// more scatterings, as a fraction of the sensor's full scale. A real
+// photograph integrates millions of photons per pixel, so a caustic (the
+// glaze focusing a lamp onto the card) is a smooth glow in it; a path
+// tracer at a few samples per pixel shows it as isolated white specks
+// instead. The clamp keeps diffuse interreflection (a fraction of the
+// glaze's brightness, well under the bound) and removes the specks.
+const indirectClampFS = 0.25
+
 // lampScale converts the dome's nominal lamp outputs to the capture's units;
 // with it a well-lit grey card sits near a fifth of full scale at the
 // recorded exposures.
@@ -267,13 +276,14 @@ func photograph(ctx context.Context, c *capture.Capture, k int, lay layout, scen
 		rl.Position = rl.Position.Add(render.V3(lampErrorM*rng.normal(), lampErrorM*rng.normal(), lampErrorM*rng.normal()))
 		lights.Lights = append(lights.Lights, rl)
 	}
+	rel := 1 / p.Exposure.Multiplier() // pixel value per unit radiance
 	film, err := render.Render(ctx, scene, pin, &lights, mats, render.Settings{
 		SPP: lay.spp, MaxDepth: 4, Seed: opt.Seed*7919 + uint64(k), Threads: opt.Threads,
+		IndirectClamp: indirectClampFS / rel,
 	})
 	if err != nil {
 		return err
 	}
-	rel := 1 / p.Exposure.Multiplier() // pixel value per unit radiance
 	w, h := film.Width, film.Height
 	pix := film.RGB()
 	var img image.Image
