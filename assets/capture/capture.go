@@ -43,6 +43,8 @@ import (
 	"math"
 	"path/filepath"
 	"strings"
+
+	"patina/assets/textpos"
 )
 
 // FormatVersion is the capture format version this package reads and writes.
@@ -96,7 +98,7 @@ type Capture struct {
 	// pos maps a JSON path to the byte offset of its value in the file;
 	// lines converts offsets to line and column.
 	pos   map[string]int
-	lines *lineIndex
+	lines *textpos.Lines
 }
 
 // Segment is a part of the mesh surface with one material. Label matches the

@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+
+	"patina/assets/textpos"
 )
 
 // Load reads and parses a capture file. A file that is not valid JSON, or
@@ -59,14 +61,14 @@ func Parse(data []byte, path string) (*Capture, error) {
 	}
 	// A byte-order mark, as some editors write, is not part of the JSON.
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
-	li := newLineIndex(data)
+	li := textpos.NewLines(data)
 	root, err := parseTree(data)
 	if err != nil {
 		var se *syntaxError
 		if !errors.As(err, &se) {
 			return nil, fmt.Errorf("%s: %w", path, err)
 		}
-		line, col := li.pos(se.off)
+		line, col := li.Pos(se.off)
 		return nil, &Error{File: path, Problems: []Problem{{Msg: "JSON syntax error: " + se.msg, Severity: SevError, Line: line, Col: col}}}
 	}
 	d := &decoder{lines: li, pos: map[string]int{}}
@@ -82,14 +84,14 @@ func Parse(data []byte, path string) (*Capture, error) {
 // decoder turns the parsed tree into a Capture, collecting every problem.
 type decoder struct {
 	probs []Problem
-	lines *lineIndex
+	lines *textpos.Lines
 	pos   map[string]int
 }
 
 func (d *decoder) add(sev string, n *node, path, format string, a ...any) {
 	p := Problem{Path: path, Msg: fmt.Sprintf(format, a...), Severity: sev}
 	if n != nil {
-		p.Line, p.Col = d.lines.pos(n.off)
+		p.Line, p.Col = d.lines.Pos(n.off)
 	}
 	d.probs = append(d.probs, p)
 }

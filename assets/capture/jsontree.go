@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"strconv"
-	"unicode/utf8"
 )
 
 // kind is the JSON type of a parsed value.
@@ -42,45 +41,6 @@ type node struct {
 
 // maxDepth bounds the nesting of a capture file; the format needs four.
 const maxDepth = 32
-
-// lineIndex converts byte offsets to 1-based line and column (columns count
-// characters, not bytes).
-type lineIndex struct {
-	data   []byte
-	starts []int
-}
-
-func newLineIndex(data []byte) *lineIndex {
-	li := &lineIndex{data: data, starts: []int{0}}
-	for i, c := range data {
-		if c == '\n' {
-			li.starts = append(li.starts, i+1)
-		}
-	}
-	return li
-}
-
-func (li *lineIndex) pos(off int) (line, col int) {
-	if li == nil {
-		return 0, 0
-	}
-	if off > len(li.data) {
-		off = len(li.data)
-	}
-	if off < 0 {
-		off = 0
-	}
-	lo, hi := 0, len(li.starts)-1
-	for lo < hi {
-		m := (lo + hi + 1) / 2
-		if li.starts[m] <= off {
-			lo = m
-		} else {
-			hi = m - 1
-		}
-	}
-	return lo + 1, utf8.RuneCount(li.data[li.starts[lo]:off]) + 1
-}
 
 // syntaxError is a JSON syntax error at a byte offset.
 type syntaxError struct {

@@ -123,7 +123,7 @@ func (v *validator) add(sev, path, format string, a ...any) {
 		// The position of the value at path, or of its nearest ancestor.
 		for q := path; ; {
 			if off, ok := v.c.pos[q]; ok {
-				p.Line, p.Col = v.c.lines.pos(off)
+				p.Line, p.Col = v.c.lines.Pos(off)
 				break
 			}
 			if q == "" {

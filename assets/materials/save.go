@@ -79,7 +79,10 @@ func (f *File) Validate(c *capture.Capture, m *render.Mesh) error {
 		}
 		if _, err := s.Params(); err != nil {
 			if e, ok := err.(*Error); ok {
-				add(p+"."+e.Path, "%s", e.Msg)
+				if e.Path != "" { // a problem of the whole segment (brdf's checks) has no field
+					p += "." + e.Path
+				}
+				add(p, "%s", e.Msg)
 			} else {
 				add(p, "%v", err)
 			}

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"encoding/json"
 	"errors"
@@ -11,6 +12,7 @@ import (
 	"os"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 
 	"patina/assets/capture"
@@ -218,9 +220,31 @@ func checkJSON(ctx context.Context, path string, opt checkOptions) *checkResult 
 			if len(kinds) == 1 {
 				return jsonKinds[kinds[0]](ctx, path, opt)
 			}
+		} else if k := claimedKind(data); k != "" {
+			// Not valid JSON (a truncated file, say), but it names one
+			// format near its start: that format's reader says where the
+			// JSON goes wrong, in its own terms.
+			return jsonKinds[k](ctx, path, opt)
 		}
 	}
 	return checkCapture(ctx, path, opt)
+}
+
+// claimedKind returns the one format field of jsonKinds that appears as a
+// key in the first kilobyte of data, where Patina's writers put it, or ""
+// when none or several do.
+func claimedKind(data []byte) string {
+	head := data[:min(len(data), 1024)]
+	found := ""
+	for k := range jsonKinds {
+		if bytes.Contains(head, []byte(strconv.Quote(k)+":")) || bytes.Contains(head, []byte(strconv.Quote(k)+" :")) {
+			if found != "" {
+				return ""
+			}
+			found = k
+		}
+	}
+	return found
 }
 
 // captureSummary is the -json form of a capture's summary.

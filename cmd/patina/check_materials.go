@@ -7,7 +7,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"strings"
 
 	"patina/assets/capture"
 	"patina/assets/materials"
@@ -56,30 +55,21 @@ func checkMaterials(_ context.Context, path string, _ checkOptions) *checkResult
 	return r
 }
 
-// addMaterialsErrors records every *materials.Error joined in err with its
-// JSON path.
+// addMaterialsErrors records every problem in err: Validate returns one
+// *materials.Error per problem joined by errors.Join, Load and Parse a
+// single one; each is listed with its JSON path. Anything else (an I/O
+// error) is listed for the whole file.
 func addMaterialsErrors(r *checkResult, err error) {
-	var list []error
+	list := []error{err}
 	if j, ok := err.(interface{ Unwrap() []error }); ok {
 		list = j.Unwrap()
-	} else {
-		list = []error{err}
 	}
 	for _, e := range list {
 		var me *materials.Error
 		if errors.As(e, &me) {
 			r.errorf(me.Path, "%s", me.Msg)
-			continue
-		}
-		// Validate joins its problems as lines "materials: FILE: PATH: msg".
-		for _, line := range strings.Split(e.Error(), "\n") {
-			line = strings.TrimPrefix(strings.TrimSpace(line), "materials: ")
-			line = strings.TrimPrefix(line, r.File+": ")
-			path, msg := "", line
-			if i := strings.Index(line, ": "); i > 0 && !strings.Contains(line[:i], " ") {
-				path, msg = line[:i], line[i+2:]
-			}
-			r.errorf(path, "%s", msg)
+		} else {
+			r.errorf("", "%v", e)
 		}
 	}
 }

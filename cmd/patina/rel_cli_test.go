@@ -213,8 +213,7 @@ var relHandCases = []relCase{
 	{name: "render materials roughness", args: []string{"render", "$CAP", "-materials", "$T/m-rough.json", "-o", "$T/out.png"}, want: []string{"m-rough.json", "segments[1].roughness", "1.5"}},
 	{name: "render materials version", args: []string{"render", "$CAP", "-materials", "$T/m-v2.json", "-o", "$T/out.png"}, want: []string{"m-v2.json", "patina_materials", "version 2"}},
 	{name: "render materials NaN string", args: []string{"render", "$CAP", "-materials", "$T/m-nan.json", "-o", "$T/out.png"}, want: []string{"m-nan.json", "segments[2].diffuse[1]"}},
-	{name: "render materials truncated", args: []string{"render", "$CAP", "-materials", "$T/m-trunc.json", "-o", "$T/out.png"}, want: []string{"m-trunc.json", "line "},
-		bug: "assets/materials/decode.go Parse: a truncated file makes json.Decoder return io.ErrUnexpectedEOF, not *json.SyntaxError, so the message (\"invalid JSON: unexpected EOF\") gives no line or column"},
+	{name: "render materials truncated", args: []string{"render", "$CAP", "-materials", "$T/m-trunc.json", "-o", "$T/out.png"}, want: []string{"m-trunc.json", "line 2, column 86: invalid JSON: unexpected end of the file"}},
 	{name: "render materials empty", args: []string{"render", "$CAP", "-materials", "$T/m-empty.json", "-o", "$T/out.png"}, want: []string{"m-empty.json"}},
 
 	// export
