@@ -47,7 +47,7 @@ func (s *Session) StartFit() (*Job, error) {
 	cc := newCoalescer(s.post)
 	var last fit.Progress
 	var lastSeg = -1
-	opts := fit.Options{Samples: s.Fit.Samples, Progress: func(p fit.Progress) {
+	opts := fit.Options{Samples: s.Fit.Samples, Locks: s.fitLocks(), Progress: func(p fit.Progress) {
 		s.fitMu.Lock()
 		if p.Stage == fit.StageFit {
 			if p.Segment != lastSeg {
@@ -126,11 +126,36 @@ func (s *Session) fitProgress() {
 	s.notify(ChangeFit)
 }
 
+// fitLocks turns the table's held parameters into the fit's locks, at the
+// table's values. A metal has no diffuse colour, so a diffuse hold on one
+// is left out.
+func (s *Session) fitLocks() map[string]fit.Lock {
+	locks := map[string]fit.Lock{}
+	for _, sm := range s.Materials {
+		var names []string
+		if sm.Locked&LockDiffuse != 0 && sm.Params.Kind != brdf.Metal {
+			names = append(names, fit.ParamDiffuse)
+		}
+		if sm.Locked&LockSpecular != 0 {
+			names = append(names, fit.ParamSpecular)
+		}
+		if sm.Locked&LockRoughness != 0 {
+			names = append(names, fit.ParamRoughness)
+		}
+		if len(names) > 0 {
+			locks[sm.Name] = fit.Lock{Names: names, Values: sm.Params}
+		}
+	}
+	return locks
+}
+
 // CancelFit stops a running fit.
 func (s *Session) CancelFit() { s.jobs.cancel("fit") }
 
-// applyFit copies a fit result into the segment table, keeping locked
-// parameters at the user's values.
+// applyFit copies a fit result into the segment table. The fit held the
+// locked parameters at the table's values (fitLocks), so they come back
+// unchanged; they are copied from the table all the same, so a lock set
+// while the fit ran is honoured too.
 func (s *Session) applyFit(res *fit.Result) {
 	s.FitResult = res
 	if res.Scale.Value > 0 {
@@ -165,7 +190,7 @@ func (s *Session) applyFit(res *fit.Result) {
 	}
 	s.Fit.LockNote = ""
 	if len(held) > 0 {
-		s.Fit.LockNote = "Held at your values (the fit estimated the other parameters freely): " + strings.Join(held, ", ")
+		s.Fit.LockNote = "Held at your values during the fit (the other parameters were fitted with these fixed): " + strings.Join(held, ", ")
 	}
 	s.MaterialsDirty = true
 	s.notify(ChangeMaterials)

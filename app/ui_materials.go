@@ -149,8 +149,8 @@ func newMaterialsView(wb *Workbench) *materialsView {
 		widget.NewFormItem("Hold at these values", container.NewHBox(v.locks[0], v.locks[1], v.locks[2])),
 		widget.NewFormItem("Preset", container.NewBorder(nil, nil, nil, applyPreset, v.preset)),
 	)
-	note := widget.NewLabel("Values set here start the fit and show in Relight. A held parameter keeps your value when a fit result comes in; " +
-		"the fit itself still estimates every parameter (it has no option to fix one), so the others are the free fit's values.")
+	note := widget.NewLabel("Values set here show in Relight. A held parameter stays at your value during the fit, " +
+		"which estimates the other parameters with it fixed (its uncertainty shows as ±0.000).")
 	note.Wrapping = fyne.TextWrapWord
 	save := widget.NewButton("Save materials as…", wb.SaveMaterialsAs)
 	load := widget.NewButton("Load materials…", wb.LoadMaterialsDialog)

@@ -149,6 +149,10 @@ func buildObservations(ctx context.Context, c *capture.Capture, m *render.Mesh, 
 			perCamera: make([]int, len(c.Cameras)),
 		})
 	}
+	// A lock the fit cannot honour fails before any photo is read.
+	if _, err := resolveLocks(set.Segments, opts); err != nil {
+		return nil, err
+	}
 	scene, err := render.NewScene(m, opts.Threads)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", c.Resolve(c.Mesh), err)

@@ -43,6 +43,10 @@ func ParseOptimizer(s string) (Optimizer, error) {
 type bounds struct {
 	n      int
 	lo, hi [brdf.MaxParams]float64
+	// hold, when not nil, fixes some entries at their locked values: natural
+	// writes those values whatever theta says and chain zeroes their
+	// gradient, so no optimiser moves them.
+	hold *held
 }
 
 func newBounds(kind brdf.Kind, minRough float64) bounds {
@@ -67,6 +71,7 @@ func (b *bounds) natural(theta, v []float64) {
 	for k := 0; k < b.n; k++ {
 		v[k] = b.lo[k] + (b.hi[k]-b.lo[k])*logistic(theta[k])
 	}
+	b.hold.apply(v[:b.n])
 }
 
 // theta writes theta(p) into t, clamping p just inside the open range.
@@ -83,6 +88,9 @@ func (b *bounds) chain(theta, gp, gt []float64) {
 	for k := 0; k < b.n; k++ {
 		s := logistic(theta[k])
 		gt[k] = gp[k] * (b.hi[k] - b.lo[k]) * s * (1 - s)
+		if b.hold != nil && b.hold.fixed[k] {
+			gt[k] = 0
+		}
 	}
 }
 
@@ -100,6 +108,8 @@ type thetaProblem struct {
 	valid  bool
 	onPass func(theta []float64, loss float64) error
 	err    error
+	// history is the loss of every pass, in order.
+	history []float64
 }
 
 func (tp *thetaProblem) evalBoth(theta []float64) (float64, []float64) {
@@ -116,6 +126,7 @@ func (tp *thetaProblem) evalBoth(theta []float64) (float64, []float64) {
 	copy(tp.lastX[:n], theta)
 	tp.lastF = f
 	tp.valid = true
+	tp.history = append(tp.history, f)
 	if tp.onPass != nil && tp.err == nil {
 		tp.err = tp.onPass(theta, f)
 	}

@@ -84,6 +84,13 @@ type Options struct {
 	// diffuse is not flagged for being near zero) gets a warning. Default 0.25.
 	MaxRelativeSigma float64
 
+	// Locks holds parameters of named segments at fixed values (the
+	// workbench's "hold at this value", or the materials file's "locked"
+	// list): the key is the segment name (FitSegment uses the key ""). A
+	// lock naming a segment the capture does not have, or a parameter the
+	// segment's model does not have, is an error (*LockError).
+	Locks map[string]Lock
+
 	// Progress, when set, is called from the fitting goroutine at each stage
 	// and after every pass. It must return quickly; a GUI should hand the
 	// value to its own thread.

@@ -100,6 +100,10 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 		res.Warnings = append(res.Warnings, res.Scale.Note)
 	}
 	n := len(set.Segments)
+	holds, err := resolveLocks(set.Segments, opts)
+	if err != nil {
+		return nil, err
+	}
 	fits := make([]*SegmentFit, n)
 	fitOne := func(si int, warm *brdf.Params) error {
 		if err := ctx.Err(); err != nil {
@@ -121,7 +125,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 				opts.Progress(p)
 			}
 		}
-		sf, err := fitSegment(ctx, &so.Obs, so.Kind, so.Name, si, n, eps, set.advice(so), warm, o)
+		sf, err := fitSegment(ctx, &so.Obs, so.Kind, so.Name, si, n, eps, set.advice(so), warm, holds[si], o)
 		if err != nil {
 			return err
 		}
@@ -170,7 +174,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 			}
 			for si, so := range set.Segments {
 				if so.ReferenceAlbedo != nil && fits[si].Fitted {
-					passes := fits[si].Passes
+					passes, hist := fits[si].Passes, fits[si].LossHistory
 					// Warm start: the reflectances scale by 1/k.
 					warm := fits[si].Params
 					var v [brdf.MaxParams]float64
@@ -184,6 +188,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 						return nil, err
 					}
 					fits[si].Passes += passes
+					fits[si].LossHistory = append(hist, fits[si].LossHistory...)
 				}
 			}
 		}
@@ -353,6 +358,8 @@ func (r *Result) Materials(c *capture.Capture, outPath string) *materials.File {
 		ms.Observations = s.Observations
 		ms.NearSpecular = s.NearSpecular
 		ms.Warnings = append([]string(nil), s.Warnings...)
+		ms.Locked = append([]string(nil), s.Locked...)
+		ms.LossHistory = append([]float64(nil), s.LossHistory...)
 		if s.Fitted {
 			rmse := s.RMSE
 			ms.RMSE = &rmse

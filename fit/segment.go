@@ -47,6 +47,16 @@ type SegmentFit struct {
 	Loss float64
 	// Passes over the observations, all roughness starts included.
 	Passes int
+	// LossHistory is the loss evaluated at every pass, in order (its length
+	// is Passes): the short runs from each roughness start come first, then
+	// the continued best start (so the curve restarts at each start), and a
+	// calibration target refitted at a corrected scale continues with the
+	// passes of the refit. Line searches try points that raise the loss, so
+	// the curve is not monotone; its running minimum is the best loss found.
+	LossHistory []float64
+	// Locked names the parameters held at given values (Options.Locks),
+	// sorted; their Sigma is 0.
+	Locked []string
 	// Stop says why the optimiser stopped.
 	Stop string
 	// StartRoughness is the roughness start that led to the optimum.
@@ -58,14 +68,22 @@ type SegmentFit struct {
 }
 
 // FitSegment fits one segment's observations with a model kind. It is the
-// core of Run, usable on observations from any source.
+// core of Run, usable on observations from any source. Having no segment
+// name, it takes its lock from opts.Locks[""].
 func FitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, opts Options) (*SegmentFit, error) {
 	opts = opts.withDefaults()
 	eps := opts.NoiseFloor
 	if eps <= 0 {
 		eps = 1e-4
 	}
-	return fitSegment(ctx, obs, kind, "", 0, 1, eps, "", nil, opts)
+	var hold *held
+	if l, ok := opts.Locks[""]; ok {
+		var err error
+		if hold, err = resolveLock("", kind, &l, opts.MinRoughness); err != nil {
+			return nil, err
+		}
+	}
+	return fitSegment(ctx, obs, kind, "", 0, 1, eps, "", nil, hold, opts)
 }
 
 // neutralParams are the values an unfitted segment gets: a mid-grey
@@ -82,10 +100,14 @@ const genericAdvice = "add photos in which a light sits near the mirror directio
 
 // fitSegment fits obs; warm, when not nil, is the single starting point
 // (no roughness starts), used when refitting after a small change.
-func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name string, index, count int, eps float64, advice string, warm *brdf.Params, opts Options) (*SegmentFit, error) {
+// hold, when not nil, fixes the locked entries.
+func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name string, index, count int, eps float64, advice string, warm *brdf.Params, hold *held, opts Options) (*SegmentFit, error) {
 	np := kind.NumParams()
 	res := &SegmentFit{Name: name, Kind: kind, Observations: obs.Len()}
 	res.Params.Kind, res.Sigma.Kind = kind, kind
+	if hold.any() {
+		res.Locked = append([]string(nil), hold.names...)
+	}
 	if advice == "" {
 		advice = genericAdvice
 	}
@@ -99,6 +121,7 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 		// Neutral values, so a renderer still draws something plausible;
 		// Fitted stays false and the sigma is unknown.
 		res.Params = neutralParams(kind)
+		hold.applyParams(&res.Params)
 		for k := range res.Sigma.Specular {
 			res.Sigma.Specular[k] = math.Inf(1)
 			if kind != brdf.Metal {
@@ -106,6 +129,16 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 			}
 		}
 		res.Sigma.Roughness = math.Inf(1)
+		if hold.any() {
+			var z [brdf.MaxParams]float64
+			res.Sigma.Vector(z[:0])
+			for k := 0; k < np; k++ {
+				if hold.fixed[k] {
+					z[k] = 0
+				}
+			}
+			res.Sigma = sigmaParams(kind, z[:np])
+		}
 		res.Warnings = append(res.Warnings, fmt.Sprintf(
 			"only %d observations for %d parameters: not fitted; photograph this segment from more cameras or under more lights, and check its mask and that its segment label matches the mesh", obs.Len(), np))
 		return res, nil
@@ -114,7 +147,9 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 	obj := newObjective(obs, kind, eps, opts.Delta, opts.Threads)
 	defer obj.close()
 	tp := &thetaProblem{obj: obj, b: newBounds(kind, opts.MinRoughness)}
+	tp.b.hold = hold
 	tp.params.Kind = kind
+	tp.history = make([]float64, 0, opts.MaxPasses+8)
 	if opts.Progress != nil {
 		tp.onPass = func(theta []float64, loss float64) error {
 			var v [brdf.MaxParams]float64
@@ -135,7 +170,7 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 		starts = []brdf.Params{*warm}
 		rules.maxPasses = 0
 	} else {
-		starts = initialGuesses(obs, kind, opts)
+		starts = initialGuesses(obs, kind, hold, opts)
 	}
 	var bestTheta [brdf.MaxParams]float64
 	bestLoss := math.Inf(1)
@@ -166,13 +201,14 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 		return nil, err
 	}
 	res.Loss, res.Stop, res.Passes = loss, reason, obj.passes
+	res.LossHistory = tp.history
 	var v [brdf.MaxParams]float64
 	tp.b.natural(bestTheta[:np], v[:np])
 	if err := res.Params.FromVector(v[:np]); err != nil {
 		return nil, err
 	}
 	res.Fitted = true
-	res.uncertainty(obs, eps, opts.Delta)
+	res.uncertainty(obs, eps, opts.Delta, hold)
 	res.warn(opts, advice)
 	return res, nil
 }
@@ -184,7 +220,11 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 // from linear least squares on all observations, because with Schlick's
 // approximation the model is affine in F0 at fixed roughness and diffuse:
 // m = A F0 + B, with B = model(F0 = 0) and A = model(F0 = 1) - B.
-func initialGuesses(obs *Observations, kind brdf.Kind, opts Options) []brdf.Params {
+//
+// Held parameters take their locked values before the linear solves (so a
+// held diffuse colour informs the F0 start), and a held roughness leaves a
+// single start.
+func initialGuesses(obs *Observations, kind brdf.Kind, hold *held, opts Options) []brdf.Params {
 	n := obs.Len()
 	hasDiffuse := kind != brdf.Metal
 	var diffuse brdf.RGB
@@ -225,9 +265,14 @@ func initialGuesses(obs *Observations, kind brdf.Kind, opts Options) []brdf.Para
 		}
 	}
 	var out []brdf.Params
-	for _, r0 := range opts.RoughnessStarts {
+	rstarts := opts.RoughnessStarts
+	if hold != nil && hold.fixed[kind.NumParams()-1] {
+		rstarts = []float64{hold.value[kind.NumParams()-1]}
+	}
+	for _, r0 := range rstarts {
 		r0 = clamp(r0, opts.MinRoughness, 1)
 		p0 := brdf.Params{Kind: kind, Diffuse: diffuse, Roughness: r0}
+		hold.applyParams(&p0)
 		p1 := p0
 		p1.Specular = brdf.RGB{1, 1, 1}
 		var num, den [3]float64
@@ -269,6 +314,7 @@ func initialGuesses(obs *Observations, kind brdf.Kind, opts Options) []brdf.Para
 				p.Specular[c] = clamp(f, 0.01, 0.98)
 			}
 		}
+		hold.applyParams(&p)
 		out = append(out, p)
 	}
 	return out
@@ -305,7 +351,11 @@ func clamp(x, lo, hi float64) float64 {
 // (Liang and Zeger, Biometrika 73(1), 1986; the G/(G-1) small-sample
 // factor is common practice), and each reported sigma is the larger of
 // the two standard deviations. With independent noise both agree.
-func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
+//
+// Held (locked) parameters are not estimated: their rows and columns are
+// left out (H gets a unit diagonal there, which decouples them exactly)
+// and their sigma is 0.
+func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *held) {
 	np := res.Kind.NumParams()
 	h := make([]float64, np*np)
 	var bg brdf.Grad
@@ -358,6 +408,20 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 			h[b*np+a] = h[a*np+b]
 		}
 	}
+	if hold.any() {
+		for a := 0; a < np; a++ {
+			if !hold.fixed[a] {
+				continue
+			}
+			for b := 0; b < np; b++ {
+				h[a*np+b], h[b*np+a] = 0, 0
+			}
+			h[a*np+a] = 1
+			for _, g := range scores {
+				g[a] = 0
+			}
+		}
+	}
 	res.RMSLog = math.Sqrt(sumR2 / float64(max(nres, 1)))
 	res.RMSE = math.Sqrt(sumLin2 / float64(max(nres, 1)))
 	s2 := sumW2 / float64(max(nres-np, 1))
@@ -377,7 +441,7 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 			res.Covariance[a] = math.Inf(1)
 		}
 		res.PhotoInflation = math.NaN()
-		_ = res.Sigma.FromVector(sigma)
+		res.Sigma = sigmaParams(res.Kind, sigma)
 		return
 	}
 	for a := 0; a < np; a++ {
@@ -415,7 +479,17 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64) {
 			sigma[a] = math.Max(sigma[a], sc)
 		}
 	}
-	_ = res.Sigma.FromVector(sigma)
+	if hold.any() {
+		for a := 0; a < np; a++ {
+			if hold.fixed[a] {
+				sigma[a] = 0
+				for b := 0; b < np; b++ {
+					res.Covariance[a*np+b], res.Covariance[b*np+a] = 0, 0
+				}
+			}
+		}
+	}
+	res.Sigma = sigmaParams(res.Kind, sigma)
 }
 
 // paramNames names the entries of a kind's vector for messages.

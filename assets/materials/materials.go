@@ -70,7 +70,20 @@ type Segment struct {
 	RMSE *float64 `json:"rmse,omitempty"`
 	// Warnings are human-readable notes on the fit of this segment.
 	Warnings []string `json:"warnings,omitempty"`
+	// Locked names the parameters ("diffuse", "specular", "roughness") held
+	// at this file's values: a fit that reads the file keeps them and
+	// estimates the others. A metal has no diffuse parameter to hold.
+	Locked []string `json:"locked,omitempty"`
+	// LossHistory is the fit's robust loss after every pass over this
+	// segment's observations, in order (for a convergence plot).
+	LossHistory []float64 `json:"loss_history,omitempty"`
 }
+
+// Lockable parameter names, as Segment.Locked spells them.
+var LockableParams = []string{"diffuse", "specular", "roughness"}
+
+// MaxLossHistory is the longest loss history accepted per segment (passes).
+const MaxLossHistory = 100000
 
 // Sigma holds standard deviations with the same keys as the parameters.
 type Sigma struct {
@@ -187,6 +200,31 @@ func (s *Segment) check() error {
 	}
 	if s.RMSE != nil && !(*s.RMSE >= 0 && !math.IsInf(*s.RMSE, 1)) {
 		return &Error{Path: "rmse", Msg: fmt.Sprintf("%v: expected a finite value >= 0", *s.RMSE)}
+	}
+	seen := map[string]bool{}
+	for i, name := range s.Locked {
+		path := fmt.Sprintf("locked[%d]", i)
+		known := false
+		for _, k := range LockableParams {
+			known = known || k == name
+		}
+		switch {
+		case !known:
+			return &Error{Path: path, Msg: fmt.Sprintf("%q is not a parameter; expected \"diffuse\", \"specular\" or \"roughness\"", name)}
+		case seen[name]:
+			return &Error{Path: path, Msg: fmt.Sprintf("%q is listed twice", name)}
+		case name == "diffuse" && s.Model == "metal":
+			return &Error{Path: path, Msg: "a metal has no diffuse parameter to hold; expected \"specular\" or \"roughness\""}
+		}
+		seen[name] = true
+	}
+	if len(s.LossHistory) > MaxLossHistory {
+		return &Error{Path: "loss_history", Msg: fmt.Sprintf("%d entries; at most %d are accepted", len(s.LossHistory), MaxLossHistory)}
+	}
+	for i, v := range s.LossHistory {
+		if !(v >= 0 && !math.IsInf(v, 1)) {
+			return &Error{Path: fmt.Sprintf("loss_history[%d]", i), Msg: fmt.Sprintf("%v: expected a finite loss >= 0", v)}
+		}
 	}
 	return nil
 }

@@ -55,6 +55,12 @@ func TestParseErrorsNameThePlace(t *testing.T) {
 		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "dielectric", "diffuse": [0.1, 0.1, 0.1], "specular": [0,0,0]}]}`, "segments[0].roughness", "missing"},
 		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "dielectric", "diffuse": [0.1, 0.1, 0.1], "specular": [0,0,0], "roughness": 0.5, "sigma": {"roughness": -1}}]}`, "segments[0].sigma.roughness", "standard deviation"},
 		{`{"patina_materials": 1, "segments": [], "fit": {"rejections": {"saturated": 1.5}}}`, "fit.rejections.saturated", "whole number"},
+		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "dielectric", "diffuse": [0.1, 0.1, 0.1], "specular": [0,0,0], "roughness": 0.5, "locked": ["gloss"]}]}`, "segments[0].locked[0]", "not a parameter"},
+		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "dielectric", "diffuse": [0.1, 0.1, 0.1], "specular": [0,0,0], "roughness": 0.5, "locked": ["roughness", "roughness"]}]}`, "segments[0].locked[1]", "listed twice"},
+		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "metal", "diffuse": [0, 0, 0], "specular": [0.9,0.9,0.9], "roughness": 0.5, "locked": ["diffuse"]}]}`, "segments[0].locked[0]", "metal has no diffuse"},
+		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "dielectric", "diffuse": [0.1, 0.1, 0.1], "specular": [0,0,0], "roughness": 0.5, "locked": "roughness"}]}`, "segments[0].locked", "array of strings"},
+		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "dielectric", "diffuse": [0.1, 0.1, 0.1], "specular": [0,0,0], "roughness": 0.5, "loss_history": [0.5, -1]}]}`, "segments[0].loss_history[1]", "finite loss"},
+		{`{"patina_materials": 1, "segments": [{"name": "a", "model": "dielectric", "diffuse": [0.1, 0.1, 0.1], "specular": [0,0,0], "roughness": 0.5, "loss_history": {}}]}`, "segments[0].loss_history", "array of numbers"},
 		{`{"patina_materials": 1, "segments": [], "fit": {"passes": 1e400}}`, "fit.passes", "out of range"},
 	}
 	for _, c := range cases {
@@ -146,5 +152,32 @@ func TestSaveRoundTripAndAtomic(t *testing.T) {
 	s := FromParams("x", brdf.Params{Kind: brdf.Free, Diffuse: brdf.RGB{0.1, 0.2, 0.3}, Specular: brdf.RGB{0.5, 0.5, 0.5}, Roughness: 0.4})
 	if q, err := s.Params(); err != nil || q.Diffuse[2] != 0.3 || s.Model != "free" {
 		t.Fatalf("FromParams/Params: %+v %v", q, err)
+	}
+}
+
+// TestLockedAndHistoryRoundTrip saves and reloads a segment's locked
+// parameter names and loss history, and checks that Save refuses what
+// Parse refuses (an unknown name).
+func TestLockedAndHistoryRoundTrip(t *testing.T) {
+	f := &File{Version: Version, Capture: "c.json", Segments: []Segment{
+		{Name: "a", Model: "dielectric", Diffuse: [3]float64{0.2, 0.3, 0.4}, Specular: [3]float64{0.04, 0.04, 0.04}, Roughness: 0.3,
+			Locked: []string{"roughness", "specular"}, LossHistory: []float64{0.5, 0.25, 0.125}},
+	}}
+	p := filepath.Join(t.TempDir(), "m.json")
+	if err := f.Save(p); err != nil {
+		t.Fatal(err)
+	}
+	g, err := Load(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := g.Segments[0]
+	if len(s.Locked) != 2 || s.Locked[0] != "roughness" || s.Locked[1] != "specular" ||
+		len(s.LossHistory) != 3 || s.LossHistory[2] != 0.125 {
+		t.Fatalf("round trip: locked %v, history %v", s.Locked, s.LossHistory)
+	}
+	f.Segments[0].Locked = []string{"shine"}
+	if err := f.Save(p); err == nil || !strings.Contains(err.Error(), "segments[0].locked[0]") {
+		t.Fatalf("Save with an unknown locked name: %v", err)
 	}
 }

@@ -19,12 +19,13 @@ import (
 	"golang.org/x/term"
 
 	"patina/assets/capture"
+	"patina/assets/materials"
 	"patina/assets/photo"
 	"patina/brdf"
 	"patina/fit"
 )
 
-const fitUsage = `patina fit CAPTURE.json [-o materials.json] [-optimizer lbfgs|adam] [-samples N] [-seed S] [-threads N] [-json] [-progress auto|always|never]
+const fitUsage = `patina fit CAPTURE.json [-o materials.json] [-locks M.json] [-optimizer lbfgs|adam] [-samples N] [-seed S] [-threads N] [-json] [-progress auto|always|never]
 
 Fits the reflectance of every segment of the capture to its "fit" photos and
 writes the materials file (default: materials.json beside the capture), with
@@ -32,6 +33,9 @@ one-sigma uncertainties, observation counts and warnings per segment. Prints
 the per-segment table (or, with -json, the result as JSON) at the end.
 
   -o FILE          materials file to write (default CAPTURE-DIR/materials.json)
+  -locks FILE      a materials file whose segments list parameters under "locked"
+                   (diffuse, specular, roughness): those are held at that file's
+                   values during the fit, which estimates the others
   -optimizer NAME  lbfgs (default) or adam
   -samples N       observations per segment per photo, drawn stratified (default 4000; -1: all)
   -seed S          seed of the pixel sample (default 1)
@@ -44,10 +48,10 @@ func init() {
 }
 
 type fitFlags struct {
-	out, optimizer, progress string
-	samples, threads         int
-	seed                     uint64
-	asJSON                   bool
+	out, optimizer, progress, locks string
+	samples, threads                int
+	seed                            uint64
+	asJSON                          bool
 }
 
 func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -55,6 +59,7 @@ func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	fs.SetOutput(stderr)
 	var f fitFlags
 	fs.StringVar(&f.out, "o", "", "materials file to write")
+	fs.StringVar(&f.locks, "locks", "", "materials file whose locked parameters are held")
 	fs.StringVar(&f.optimizer, "optimizer", "lbfgs", "lbfgs or adam")
 	fs.IntVar(&f.samples, "samples", 4000, "observations per segment per photo (-1: all)")
 	fs.Uint64Var(&f.seed, "seed", 1, "seed of the pixel sample")
@@ -104,6 +109,11 @@ func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	}
 
 	opts := fit.Options{Optimizer: opt, Samples: f.samples, Seed: f.seed, Threads: f.threads}
+	if f.locks != "" {
+		if opts.Locks, err = readLocks(f.locks, c); err != nil {
+			return badInput(err)
+		}
+	}
 	if showBar {
 		bar := progressbar.NewOptions(1000,
 			progressbar.OptionSetWriter(stderr),
@@ -124,6 +134,10 @@ func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	if err != nil {
 		if ctx.Err() != nil {
 			return ctx.Err()
+		}
+		var lk *fit.LockError
+		if errors.As(err, &lk) {
+			return badInputf("fit: -locks %s: %v", f.locks, err)
 		}
 		// A photo that passed the header checks but fails to decode is the
 		// user's file, not an internal failure.
@@ -147,6 +161,34 @@ func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	}
 	printFitTable(stdout, res, out)
 	return nil
+}
+
+// readLocks reads the locked parameters of a materials file as the fit's
+// locks, at that file's values. When the capture lists its segments the
+// file is validated against it (names, models, ranges); otherwise the fit
+// checks the names against the mesh's segments.
+func readLocks(path string, c *capture.Capture) (map[string]fit.Lock, error) {
+	mf, err := materials.Load(path)
+	if err != nil {
+		return nil, err
+	}
+	if len(c.Segments) > 0 {
+		if err := mf.Validate(c, nil); err != nil {
+			return nil, err
+		}
+	}
+	locks := map[string]fit.Lock{}
+	for i, ms := range mf.Segments {
+		if len(ms.Locked) == 0 {
+			continue
+		}
+		p, err := ms.Params()
+		if err != nil {
+			return nil, fmt.Errorf("%s: segments[%d]: %w", path, i, err)
+		}
+		locks[ms.Name] = fit.Lock{Names: append([]string(nil), ms.Locked...), Values: p}
+	}
+	return locks, nil
 }
 
 func describeProgress(p fit.Progress, elapsed time.Duration) string {
@@ -188,6 +230,11 @@ func printFitTable(w io.Writer, res *fit.Result, out string) {
 			fitPM(s.Params.Roughness, s.Sigma.Roughness), s.Observations, s.NearSpecular, 100*s.RMSLog, s.Passes)
 	}
 	tw.Flush()
+	for _, s := range res.Segments {
+		if len(s.Locked) > 0 {
+			fmt.Fprintf(w, "held: %s: %s at the -locks file's values (± 0: not estimated)\n", s.Name, strings.Join(s.Locked, ", "))
+		}
+	}
 	for _, s := range res.Segments {
 		for _, m := range s.Warnings {
 			fmt.Fprintf(w, "warning: %s: %s\n", s.Name, m)
@@ -237,6 +284,7 @@ type fitSegmentJSON struct {
 	RMSLog       float64    `json:"rms_log"`
 	Passes       int        `json:"passes"`
 	Stop         string     `json:"stop,omitempty"`
+	Locked       []string   `json:"locked,omitempty"`
 	Warnings     []string   `json:"warnings,omitempty"`
 }
 
@@ -260,7 +308,7 @@ func writeFitJSON(w io.Writer, res *fit.Result, out string) error {
 	for _, s := range res.Segments {
 		sj := fitSegmentJSON{Name: s.Name, Model: s.Kind.String(), Fitted: s.Fitted, Diffuse: s.Params.Diffuse,
 			Specular: s.Params.Specular, Roughness: s.Params.Roughness, Observations: s.Observations,
-			NearSpecular: s.NearSpecular, RMSE: s.RMSE, RMSLog: s.RMSLog, Passes: s.Passes, Stop: s.Stop, Warnings: s.Warnings}
+			NearSpecular: s.NearSpecular, RMSE: s.RMSE, RMSLog: s.RMSLog, Passes: s.Passes, Stop: s.Stop, Locked: s.Locked, Warnings: s.Warnings}
 		sg := sigmaJSON{Diffuse: s.Sigma.Diffuse, Specular: s.Sigma.Specular, Roughness: s.Sigma.Roughness}
 		if s.Fitted && fitFinite(sg.Diffuse[:]) && fitFinite(sg.Specular[:]) && fitFinite([]float64{sg.Roughness}) {
 			sj.Sigma = &sg

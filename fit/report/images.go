@@ -63,11 +63,12 @@ func (r *Report) addPlots() error {
 	if b != nil {
 		r.addImage("chart-holdouts.png", "Mean and 95th-percentile Delta E 2000 of every held-out view against the tolerance's limits (photograph vs SIMULATION).", true, b)
 	}
-	if b, err = residualPlot(r.Materials.Segments); err != nil {
+	var caption string
+	if b, caption, err = convergencePlot(r.Materials.Segments); err != nil {
 		return err
 	}
 	if b != nil {
-		r.addImage("chart-residuals.png", "Root-mean-square photometric residual of every fitted segment at the fit's solution (linear radiance, capture units), as the materials file records it.", false, b)
+		r.addImage("chart-residuals.png", caption, false, b)
 	}
 	if r.Materials.Fit != nil {
 		if b, err = rejectionPlot(r.Materials.Fit.Rejections); err != nil {

@@ -55,14 +55,116 @@ func newPlot(title, ylabel string, names []string) *plot.Plot {
 	p.Legend.TextStyle.Font = font.From(sans, 9)
 	p.Y.Label.Text = ylabel
 	p.Y.Min = 0
-	p.NominalX(names...)
+	if len(names) > 0 { // a numeric x axis has no names
+		p.NominalX(names...)
+	}
 	p.Add(plotter.NewGrid())
 	p.Legend.Top = true
 	return p
 }
 
-// residualPlot draws the fit's final RMS residual per fitted segment.
-func residualPlot(segs []SegmentRecord) ([]byte, error) {
+// convergencePlot draws the fit's convergence: the robust loss after every
+// pass over each segment's observations, on a logarithmic axis (the loss
+// falls by orders of magnitude), one line per segment, from the materials
+// file's loss_history. The curve of a segment restarts at each roughness
+// start and its line searches try points that raise the loss, so the lines
+// are not monotone. A file without any history (written before it was
+// recorded) gets the final RMS residual per segment instead. It returns the
+// PNG and the caption that says which of the two it drew.
+func convergencePlot(segs []SegmentRecord) ([]byte, string, error) {
+	p, err := convergencePlotOf(segs)
+	if err != nil || p == nil {
+		return nil, "", err
+	}
+	b, err := pngOf(p)
+	if err != nil {
+		return nil, "", err
+	}
+	return b, convergenceCaption(segs), nil
+}
+
+// hasHistory reports whether any segment records its loss per pass.
+func hasHistory(segs []SegmentRecord) bool {
+	for _, s := range segs {
+		if len(s.LossHistory) > 0 {
+			return true
+		}
+	}
+	return false
+}
+
+func convergenceCaption(segs []SegmentRecord) string {
+	if hasHistory(segs) {
+		return "Robust loss (Charbonnier on log radiance) after every pass of the fit over each segment's observations, as the materials file records it; a segment's curve restarts at each roughness start, and line-search trials may raise it."
+	}
+	return "Root-mean-square photometric residual of every fitted segment at the fit's solution (linear radiance, capture units), as the materials file records it (it has no loss per pass)."
+}
+
+// convergencePlotOf builds the plot convergencePlot draws (nil when there
+// is nothing to draw).
+func convergencePlotOf(segs []SegmentRecord) (*plot.Plot, error) {
+	if !hasHistory(segs) {
+		return residualPlotOf(segs)
+	}
+	names, series, floor := convergenceSeries(segs)
+	p := newPlot("Fit convergence: loss per pass", "loss (log scale)", nil)
+	p.X.Label.Text = "pass over the segment's observations"
+	p.Y.Scale = plot.LogScale{}
+	p.Y.Tick.Marker = plot.LogTicks{Prec: -1}
+	p.Y.Min = floor
+	styles := []color.Color{inkMain, inkSecond, inkLimit,
+		color.RGBA{R: 0x3f, G: 0x8f, B: 0x4f, A: 0xff}, color.RGBA{R: 0x7b, G: 0x4f, B: 0x9d, A: 0xff},
+		color.RGBA{R: 0x55, G: 0x55, B: 0x55, A: 0xff}}
+	for k, xy := range series {
+		l, err := plotter.NewLine(xy)
+		if err != nil {
+			return nil, fmt.Errorf("report: convergence of segment %q: %w", names[k], err)
+		}
+		l.Color = styles[k%len(styles)]
+		l.Width = vg.Points(1.5)
+		if k >= len(styles) {
+			l.Dashes = []vg.Length{vg.Points(5), vg.Points(3)}
+		}
+		p.Add(l)
+		p.Legend.Add(names[k], l)
+	}
+	return p, nil
+}
+
+// convergenceSeries returns the segments with a loss history, their
+// points (pass from 1, loss) and the floor of the logarithmic axis: a loss
+// of exactly 0 (a perfect fit) is drawn at the smallest positive loss.
+func convergenceSeries(segs []SegmentRecord) ([]string, []plotter.XYs, float64) {
+	floor := math.Inf(1)
+	for _, s := range segs {
+		for _, v := range s.LossHistory {
+			if v > 0 && v < floor {
+				floor = v
+			}
+		}
+	}
+	if math.IsInf(floor, 1) {
+		floor = 1
+	}
+	var names []string
+	var series []plotter.XYs
+	for _, s := range segs {
+		if len(s.LossHistory) == 0 {
+			continue
+		}
+		xy := make(plotter.XYs, len(s.LossHistory))
+		for i, v := range s.LossHistory {
+			xy[i] = plotter.XY{X: float64(i + 1), Y: math.Max(v, floor)}
+		}
+		names = append(names, s.Name)
+		series = append(series, xy)
+	}
+	return names, series, floor
+}
+
+// residualPlotOf draws the fit's final RMS residual per fitted segment, the
+// fallback of convergencePlotOf.
+func residualPlotOf(segs []SegmentRecord) (*plot.Plot, error) {
 	var names []string
 	var vals plotter.Values
 	for _, s := range segs {
@@ -83,7 +185,7 @@ func residualPlot(segs []SegmentRecord) ([]byte, error) {
 	bars.Color = inkMain
 	bars.LineStyle.Width = 0
 	p.Add(bars)
-	return pngOf(p)
+	return p, nil
 }
 
 // rejectionPlot draws the counts of pixels the fit left out, by reason.

@@ -278,8 +278,11 @@ func Build(ctx context.Context, capPath, matPath string, opts Options, prov Prov
 	}
 	r.Capture = captureRecord(c, m, mrep, ps, holdouts)
 	r.Materials = MaterialsRecord{Path: absPath(mf.Path), Capture: mf.Capture, Segments: mf.Segments, Fit: mf.Fit,
-		Scale: setup.Scale, HistoryRecorded: false,
+		Scale: setup.Scale, HistoryRecorded: hasHistory(mf.Segments),
 		HistoryNote: "The materials file records the fit's outcome (passes, final residual per segment, rejection counts) but not its loss after each pass, so no convergence curve can be drawn from it; the charts show what the file records."}
+	if r.Materials.HistoryRecorded {
+		r.Materials.HistoryNote = "The convergence chart draws the loss after every pass of the fit as the materials file records it (loss_history per segment)."
+	}
 	r.Settings = SettingsRecord{SPP: opts.SPP, MaxSPP: opts.MaxSPP, NoiseRatio: opts.NoiseRatio,
 		MaxDepth: opts.MaxDepth, Seed: opts.Seed,
 		Light:    fmt.Sprintf("path tracing, direct and indirect light, at most %d scattering events, the photo's lights only, no environment", opts.MaxDepth),
