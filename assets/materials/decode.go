@@ -9,6 +9,8 @@ import (
 	"math"
 	"os"
 	"strconv"
+
+	"patina/assets/textpos"
 )
 
 // Load reads and checks the materials file at path. Errors are *Error
@@ -39,15 +41,14 @@ func Parse(data []byte, path string) (*File, error) {
 	dec.UseNumber()
 	var root any
 	if err := dec.Decode(&root); err != nil {
-		var se *json.SyntaxError
-		if errors.As(err, &se) {
-			line, col := lineCol(data, int(se.Offset))
-			return nil, &Error{File: path, Msg: fmt.Sprintf("line %d, column %d: invalid JSON: %v", line, col, se)}
-		}
-		return nil, &Error{File: path, Msg: "invalid JSON: " + err.Error()}
+		return nil, jsonError(data, path, err)
 	}
+	end := int(dec.InputOffset())
 	if _, err := dec.Token(); err != io.EOF {
-		return nil, &Error{File: path, Msg: "unexpected data after the top-level JSON object"}
+		// The offset of the first byte after the object that is not space.
+		off := end + len(data[end:]) - len(bytes.TrimLeft(data[end:], " \t\r\n"))
+		line, col := textpos.Pos(data, off)
+		return nil, &Error{File: path, Msg: fmt.Sprintf("line %d, column %d: unexpected data after the top-level JSON object", line, col)}
 	}
 	d := decoder{file: path}
 	f := &File{Path: path}
@@ -58,11 +59,27 @@ func Parse(data []byte, path string) (*File, error) {
 	return f, nil
 }
 
-func lineCol(data []byte, off int) (line, col int) {
-	off = min(max(off, 0), len(data))
-	line = 1 + bytes.Count(data[:off], []byte{'\n'})
-	col = off - bytes.LastIndexByte(data[:off], '\n')
-	return
+// jsonError describes a JSON decoding error of data with the line and
+// column where it happened (counted as the capture reader counts them):
+// encoding/json's SyntaxError gives the offset; a file that ends early makes
+// the decoder return io.ErrUnexpectedEOF (io.EOF when it holds nothing but
+// space), and the place is then the end of the file.
+func jsonError(data []byte, path string, err error) error {
+	var se *json.SyntaxError
+	var off int
+	var msg string
+	switch {
+	case errors.As(err, &se):
+		off, msg = int(se.Offset), "invalid JSON: "+se.Error()
+	case errors.Is(err, io.ErrUnexpectedEOF):
+		off, msg = len(data), "invalid JSON: unexpected end of the file (an object, array or string is not closed)"
+	case err == io.EOF:
+		off, msg = len(data), "invalid JSON: the file is empty; expected an object"
+	default:
+		return &Error{File: path, Msg: "invalid JSON: " + err.Error()}
+	}
+	line, col := textpos.Pos(data, off)
+	return &Error{File: path, Msg: fmt.Sprintf("line %d, column %d: %s", line, col, msg)}
 }
 
 // decoder walks the generic JSON tree, keeping the first error.
