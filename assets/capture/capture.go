@@ -54,6 +54,14 @@ const FormatVersion = 1
 // beyond any real project: a capture of ten thousand photos is about 3 MiB).
 const MaxFileSize = 64 << 20
 
+// MaxPhotos bounds the number of photos of a capture. Studio captures have
+// hundreds; the fit's observation arrays grow with the count (about 220 KB
+// per photo and segment at the default 4000 samples), so ten thousand,
+// some 2 GB per segment, is as far as one fit can go. Load refuses a file
+// listing more before decoding any photo entry, and Validate a capture
+// built in memory.
+const MaxPhotos = 10000
+
 // Segment models.
 const (
 	ModelDielectric = "dielectric" // diffuse colour, one specular F0, roughness

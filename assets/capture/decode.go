@@ -289,6 +289,10 @@ func (d *decoder) capture(n *node, c *Capture) {
 			})
 		}},
 		{"photos", true, func(v *node, p string) {
+			if v.kind == kArray && len(v.arr) > MaxPhotos {
+				d.errf(v, p, "%d photos; a capture may have at most %d (capture.MaxPhotos)", len(v.arr), MaxPhotos)
+				return
+			}
 			d.array(v, p, "photos", func(_ int, e *node, ep string) {
 				var ph Photo
 				d.photo(e, ep, &ph)

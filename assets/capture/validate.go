@@ -461,6 +461,10 @@ func (v *validator) lights() []bool {
 
 func (v *validator) photos(camUsed, lightUsed []bool) {
 	c := v.c
+	if len(c.Photos) > MaxPhotos {
+		v.errf("photos", "%d photos; a capture may have at most %d (capture.MaxPhotos)", len(c.Photos), MaxPhotos)
+		return
+	}
 	var camIDs, lightIDs []string
 	for _, cam := range c.Cameras {
 		camIDs = append(camIDs, cam.ID)

@@ -111,6 +111,7 @@ func TestReliabilityLimitsNamed(t *testing.T) {
 		{"photo.MaxPixels", photo.MaxPixels, []string{"check", file("big.png", relPNGHeader(20000, 20000))}},
 		{"photo.MaxDimension", photo.MaxDimension, []string{"check", file("wide.png", relPNGHeader(70000, 10))}},
 		{"capture.MaxFileSize", capture.MaxFileSize, []string{"check", sparse("huge-capture.json", capture.MaxFileSize+1)}},
+		{"capture.MaxPhotos", capture.MaxPhotos, []string{"fit", filepath.Join("..", "..", "testdata", "bad", "capture-too-many-photos.json"), "-o", filepath.Join(dir, "out.json")}},
 		{"materials.MaxFileSize", materials.MaxFileSize, []string{"render", capPath, "-materials", sparse("huge-materials.json", materials.MaxFileSize+1), "-o", filepath.Join(dir, "out.png")}},
 		{"materials.MaxSegments", materials.MaxSegments, []string{"render", capPath, "-materials", file("segs.json", []byte(manySegs.String())), "-o", filepath.Join(dir, "out.png")}},
 		{"render.MaxEnvironmentSide", render.MaxEnvironmentSide, []string{"render", capPath, "-materials", mat, "-env", "studio", "-env-size", "100000", "-o", filepath.Join(dir, "out.png")}},
