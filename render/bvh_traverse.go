@@ -16,14 +16,13 @@ type Hit struct {
 	Segment int32
 }
 
-// stackSize bounds the traversal stack; the build keeps the tree shallower
-// (depth <= medianDepth + log2(MaxSceneTriangles) < stackSize). It is small
-// because Go zeroes the stack array on every query.
+// stackSize bounds the depth of the binary tree the build makes
+// (depth <= medianDepth + log2(MaxSceneTriangles) < stackSize).
 const stackSize = 64
 
 type stackEntry struct {
-	node int32   // as bvhNode.child
-	t    float32 // entry distance of the node's box, for culling on pop
+	node int32  // as bvh4Node.child
+	t    uint32 // entry distance of the node's box as float32 bits, for culling on pop
 }
 
 // boxPad widens the far slab distances so the float32 box test never
@@ -39,7 +38,7 @@ var boxPad = float32(1 + 2*(3*0x1p-24)/(1-3*0x1p-24))
 type rayQuery struct {
 	ox, oy, oz    float32 // origin, rounded to float32; the triangle test uses the same point
 	idx, idy, idz float32 // reciprocal direction, clamped to finite values
-	nx, ny, nz    uint    // offsets of the near slab planes in a child box (0..2 or 3..5)
+	octant        uint    // signs of the direction: bit 0 x < 0, bit 1 y < 0, bit 2 z < 0
 	// Woop et al.: kz is the dominant axis of D, kx and ky the other two
 	// (swapped when D[kz] < 0 to keep the winding); S shears D onto +z.
 	kx, ky, kz    uint
@@ -86,15 +85,15 @@ func (q *rayQuery) init(r Ray, tmax float64) bool {
 	o := [3]float64{float64(q.ox), float64(q.oy), float64(q.oz)}
 	q.okx, q.oky, q.okz = o[kx], o[ky], o[kz]
 	q.idx, q.idy, q.idz = recip32(d.X), recip32(d.Y), recip32(d.Z)
-	q.nx, q.ny, q.nz = 0, 1, 2
+	q.octant = 0
 	if q.idx < 0 {
-		q.nx = 3
+		q.octant |= 1
 	}
 	if q.idy < 0 {
-		q.ny = 4
+		q.octant |= 2
 	}
 	if q.idz < 0 {
-		q.nz = 5
+		q.octant |= 4
 	}
 	q.hitIndex = -1
 	q.setTmax(tmax)
@@ -160,120 +159,34 @@ func (s *Scene) Occluded(r Ray, tmax float64) bool {
 	return s.traverse(&q, true)
 }
 
-// traverse walks the BVH front to back: of two children hit, the nearer is
-// visited next and the farther pushed on a fixed stack with its entry
-// distance, and popped entries farther than the current closest hit are
-// skipped. Leaves are visited in the same order and their triangles tested
-// in this loop (a call would spill every register). With anyHit it returns
-// at the first hit.
+// traverse walks the 4-wide BVH front to back: the children a node's ray
+// enters are sorted by entry distance, the nearest is visited next and the
+// others are pushed on a fixed stack with their entry distances; popped
+// entries farther than the current closest hit are skipped. Leaves'
+// triangles are tested in the same loop (a call would spill every
+// register). With anyHit it returns at the first hit. The loop is
+// generated once per direction octant (bvh_gen.go, bvh_octants.go), so that
+// the near and far planes of the boxes are constant offsets.
+//
+// The slab test (Ize 2013) compares distances as the int32 bit patterns of
+// their float32 values. Both ends are clamped to the ray's interval, the
+// entry distance below by 0 and the exit distance above by tmax > 0, and on
+// that range the bit patterns order as the values do, every negative value
+// (-0 included) ordering below 0. Integer min and max compile to
+// conditional moves, where Go's float32 min (NaN- and signed-zero-exact)
+// takes three dependent instructions.
 func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
-	nodes := s.nodes
-	tris := s.tris
-	if len(nodes) == 0 || len(tris) == 0 {
+	if len(s.nodes) == 0 || len(s.tris) == 0 {
 		return false
 	}
-	ox, oy, oz := q.ox, q.oy, q.oz
-	idx, idy, idz := q.idx, q.idy, q.idz
-	// Far distances carry Ize's padding, folded into the reciprocal.
-	fdx, fdy, fdz := idx*boxPad, idy*boxPad, idz*boxPad
-	nx, ny, nz := int(q.nx), int(q.ny), int(q.nz)
-	fx, fy, fz := 3-nx, 5-ny, 7-nz // far planes: min <-> max of the same axis
-	if fz < 0 || fz > 5 || fy < 0 || fy > 5 || fx < 0 || fx > 5 || nx < 0 || nx > 5 || ny < 0 || ny > 5 || nz < 0 || nz > 5 {
-		return false // never: lets the compiler drop the box bounds checks
-	}
-	kx, ky, kz := q.kx, q.ky, q.kz
-	if kx > 2 || ky > 2 || kz > 2 {
-		return false // never: lets the compiler drop the vertex bounds checks
-	}
-	sx, sy, sz := q.sx, q.sy, q.sz
-	okx, oky, okz := q.okx, q.oky, q.okz
-	var stack [stackSize]stackEntry
-	sp := 0
-	ni := int32(0) // >= 0: inner node; < 0: leaf (see bvhNode.child)
-	for {
-		if ni >= 0 {
-			nd := &nodes[ni]
-			b := &nd.box
-			tmax := q.tmax32
-			// Slab test (Ize 2013) with the entry distance negated, so that
-			// both ends are minima: max(a, b, c, 0) = -min(-a, -b, -c, 0).
-			n0 := min((ox-b[nx])*idx, (oy-b[ny])*idy, (oz-b[nz])*idz, 0)
-			f0 := min((b[fx]-ox)*fdx, (b[fy]-oy)*fdy, (b[fz]-oz)*fdz, tmax)
-			n1 := min((ox-b[nx+6])*idx, (oy-b[ny+6])*idy, (oz-b[nz+6])*idz, 0)
-			f1 := min((b[fx+6]-ox)*fdx, (b[fy+6]-oy)*fdy, (b[fz+6]-oz)*fdz, tmax)
-			hit0 := -n0 <= f0
-			hit1 := -n1 <= f1
-			if hit0 && hit1 {
-				c0, c1 := nd.child[0], nd.child[1]
-				if n1 > n0 { // child 1 is nearer
-					c0, c1 = c1, c0
-					n0, n1 = n1, n0
-				}
-				stack[sp&(stackSize-1)] = stackEntry{c1, -n1}
-				sp++
-				ni = c0
-				continue
-			}
-			if hit0 {
-				ni = nd.child[0]
-				continue
-			}
-			if hit1 {
-				ni = nd.child[1]
-				continue
-			}
-		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - okz
-				bz := float64(t[3+kz]) - okz
-				cz := float64(t[6+kz]) - okz
-				ax := float64(t[kx]) - okx - sx*az
-				ay := float64(t[ky]) - oky - sy*az
-				bx := float64(t[3+kx]) - okx - sx*bz
-				by := float64(t[3+ky]) - oky - sy*bz
-				cx := float64(t[6+kx]) - okx - sx*cz
-				cy := float64(t[6+ky]) - oky - sy*cz
-				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * sz / det
-				if !(tt > 0 && tt < q.tmax) {
-					continue
-				}
-				if anyHit {
-					return true
-				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
-			}
-		}
-		for {
-			if sp == 0 {
-				return q.hitIndex >= 0
-			}
-			sp--
-			e := stack[sp&(stackSize-1)]
-			if e.t <= q.tmax32 {
-				ni = e.node
-				break
-			}
-		}
-	}
+	return s.traverseOctant(q, anyHit)
 }
+
+//go:generate go run bvh_gen.go
+
+// f32bits returns the bit pattern of f as an int32, which orders as f does
+// for non-negative values and puts every negative value below them.
+func f32bits(f float32) int32 { return int32(math.Float32bits(f)) }
 
 // leaf tests the triangles tris[first:first+count] with the watertight test
 // of Woop, Benthin and Wald (JCGT 2(1), 2013), in float64 on the float32

@@ -20,7 +20,7 @@ const MaxSceneTriangles = 1 << (31 - leafCountBits)
 // queries.
 type Scene struct {
 	mesh   *Mesh
-	nodes  []bvhNode
+	nodes  []bvh4Node // the 4-wide hierarchy, root first
 	tris   []triVerts // vertices of each triangle in leaf order
 	triID  []int32    // mesh triangle index of each entry of tris
 	bounds AABB
@@ -30,15 +30,16 @@ type Scene struct {
 // BuildStats describes a built hierarchy.
 type BuildStats struct {
 	Triangles int     // triangles in the scene
-	Nodes     int     // inner nodes (each holds the boxes of its two children)
+	Nodes     int     // inner nodes of the traversed 4-wide hierarchy (each holds the boxes of up to four children)
 	Leaves    int     // leaves
-	Depth     int     // longest root-to-leaf path, in edges
+	Depth     int     // longest root-to-leaf path of the binary SAH tree, in edges (the 4-wide one is about half as deep)
 	Seconds   float64 // wall-clock build time
 	Threads   int     // goroutines the build ran on
 }
 
-// bvhNode is an inner node holding the boxes of both children, so that one
-// 64-byte line answers both box tests.
+// bvhNode is an inner node of the binary tree the SAH build makes, holding
+// the boxes of both children; collapseBVH turns the tree into the 4-wide
+// one that queries traverse.
 type bvhNode struct {
 	box   [12]float32 // child 0 min x y z, max x y z; then child 1
 	child [2]int32    // >= 0: inner node index; < 0: leaf ^(first triangle << leafCountBits | count)
@@ -101,7 +102,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 		st.depth = 1
 		st.leaves = 1
 	}
-	s.nodes = compactNodes(bd.nodes, st.inner)
+	s.nodes, _ = collapseBVH(bd.nodes)
 	s.tris = make([]triVerts, nt)
 	s.triID = make([]int32, nt)
 	parallelFor(nt, threads, func(lo, hi int) {
@@ -208,35 +209,6 @@ func parallelRefs(m *Mesh, refs []primRef, threads int) (box32, box32) {
 		bb = union32(bb, bounds[i])
 	}
 	return cb, bb
-}
-
-// compactNodes renumbers the used nodes in depth-first order (left child
-// first) so that a node's first child usually follows it in memory.
-func compactNodes(nodes []bvhNode, count int) []bvhNode {
-	out := make([]bvhNode, 0, count)
-	type item struct {
-		old    int32
-		parent int32 // index in out of the parent, -1 for the root
-		slot   int
-	}
-	stack := []item{{0, -1, 0}}
-	for len(stack) > 0 {
-		it := stack[len(stack)-1]
-		stack = stack[:len(stack)-1]
-		ni := int32(len(out))
-		out = append(out, nodes[it.old])
-		if it.parent >= 0 {
-			out[it.parent].child[it.slot] = ni
-		}
-		nd := &out[ni]
-		// Push the right child first so the left one is numbered next.
-		for c := 1; c >= 0; c-- {
-			if nd.child[c] >= 0 {
-				stack = append(stack, item{nd.child[c], ni, c})
-			}
-		}
-	}
-	return out
 }
 
 // parallelFor runs body over [0, n) split into contiguous chunks.
