@@ -307,11 +307,16 @@ func (s *Session) RestartRelight() {
 	sc := s.Scene
 	spp := max(1, r.SPP)
 	cc := newCoalescer(s.post)
-	deliver := func(f *render.Film, final bool) {
+	// deliver hands an image of the job with context ctx to the UI. An
+	// image that arrives after the job was cancelled (the view was left, a
+	// setting changed, the window closed) is dropped: the cancel happened
+	// on the UI goroutine before the image is looked at there, so a
+	// cancelled render changes nothing, not even the image on show.
+	deliver := func(ctx context.Context, f *render.Film, final bool) {
 		pix := f.RGB()
 		w, h, done, el := f.Width, f.Height, f.SPP, time.Since(start)
 		cc.Post(func() {
-			if s.Relight.Generation != gen {
+			if s.Relight.Generation != gen || ctx.Err() != nil {
 				return
 			}
 			rr := &s.Relight
@@ -343,9 +348,9 @@ func (s *Session) RestartRelight() {
 		if err != nil {
 			return err
 		}
-		deliver(f, false)
+		deliver(ctx, f, false)
 		_, err = render.Render(ctx, sc, cam, lights, mats, render.Settings{SPP: spp, Seed: 1, OnPass: func(p render.Pass) {
-			deliver(p.Film, p.SPP >= spp)
+			deliver(ctx, p.Film, p.SPP >= spp)
 		}})
 		return err
 	}, func(err error) {
