@@ -7,10 +7,7 @@ import "math"
 // probability SpecularProbability gives), u[1] and u[2] the direction. The
 // diffuse lobe is sampled with density cos(theta)/pi; the specular lobe
 // samples a microfacet normal from the GGX distribution of visible normals
-// and reflects wo about it. The visible normals are drawn with the
-// spherical-cap construction of Dupuy and Benyoub 2023, which has exactly
-// the distribution of Heitz 2018's sampler (the density PDF states) at
-// fewer square roots.
+// (Heitz 2018) and reflects wo about it.
 //
 // pdf is the combined density PDF(p, wo, wi) in 1/sr, and weight is
 // Eval(p, wo, wi) * wi.Z / pdf, the throughput of the sample. ok is false
@@ -36,7 +33,8 @@ func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64)
 	}
 	// (The hot path is written out in one function: calls cost more than
 	// the arithmetic here, since every live value is spilled around them.)
-	// Both lobes use the same azimuth 2 pi u[2].
+	// Both lobes start from the same point (sqrt(u[1]), 2 pi u[2]) of the
+	// unit disk in polar form.
 	sn, cs := sincos2pi(u[2])
 
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
@@ -52,21 +50,47 @@ func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64)
 	// Smith visibility below: for a unit wo they are the same number.
 	so := math.Sqrt(float64(muO*muO*(1-a2)) + a2)
 	if u[0]*b < a { // u[0] < a / b without the division
-		// Visible normal by spherical caps (Dupuy and Benyoub 2023,
-		// listing 3): in the hemisphere configuration (alpha 1) the
-		// visible normals are v + c, with v the stretched unit view and c
-		// uniform on the spherical cap z > -v.z of the unit sphere. That
-		// is the same distribution as Heitz 2018's projected disk, with
-		// no orthonormal basis and no second warp.
-		inv := 1 / so
+		// Visible normal (Heitz 2018, listing 1). Stretch the view into
+		// the configuration of the hemisphere (alpha 1); its length is so.
+		// Orthonormal basis (t1, t2, vh); t1 is perpendicular to the plane
+		// of wo and the normal, which stretching does not change. One
+		// division serves both normalisations.
+		t1x, t1y, inv := 1.0, 0.0, 0.0 // inv = 1 / so
+		if sxy := wo.X*wo.X + wo.Y*wo.Y; sxy > 0 {
+			sq := math.Sqrt(sxy)
+			i2 := 1 / (sq * so)
+			k := so * i2 // 1 / sq
+			t1x, t1y = -wo.Y*k, wo.X*k
+			inv = sq * i2
+		} else {
+			inv = 1 / so
+		}
 		vx, vy, vz := alpha*wo.X*inv, alpha*wo.Y*inv, muO*inv
-		// z = (1 - u1)(1 + vz) - vz is uniform on (-vz, 1]; its sine
-		// from (1 - z)(1 + z), free of cancellation near the poles.
-		t := (1 - u[1]) * (1 + vz)
-		st := math.Sqrt(u[1] * (1 + vz) * (t + (1 - vz)))
-		// h = v + c (z of h is t), unstretched to the normal m (not
-		// normalised); then reflect: wi = 2 (wo.m) m / |m|^2 - wo.
-		mx, my, mz := alpha*(st*cs+vx), alpha*(st*sn+vy), t
+		t2x, t2y, t2z := -vz*t1y, vz*t1x, vx*t1y-vy*t1x // vh x t1
+		// A uniform point on the unit disk, warped onto the visible half
+		// of the hemisphere.
+		r := math.Sqrt(u[1])
+		p1, p2 := r*cs, r*sn
+		h := 0.5 * (1 + vz)
+		e := 1 - p1*p1
+		if e < 0 {
+			e = 0
+		}
+		q2 := (1-h)*math.Sqrt(e) + h*p2
+		e -= q2 * q2
+		if e < 0 {
+			e = 0
+		}
+		p3 := math.Sqrt(e)
+		nx := p1*t1x + q2*t2x + p3*vx
+		ny := p1*t1y + q2*t2y + p3*vy
+		nz := q2*t2z + p3*vz
+		if nz < 0 {
+			nz = 0
+		}
+		// Unstretch to the normal m (not normalised), then reflect:
+		// wi = 2 (wo.m) m / |m|^2 - wo.
+		mx, my, mz := alpha*nx, alpha*ny, nz
 		m2 := mx*mx + my*my + mz*mz
 		if !(m2 > 0) {
 			return Vec{}, 0
