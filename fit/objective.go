@@ -45,10 +45,12 @@ type objective struct {
 	nchunks  int
 	partLoss []float64
 	partGrad [][brdf.MaxParams]float64
+	partHess [][brdf.MaxParams * brdf.MaxParams]float64
 
 	// The pass being evaluated, read by the workers.
 	params   brdf.Params
 	wantGrad bool
+	wantHess bool
 	next     atomic.Int64
 
 	threads int
@@ -70,6 +72,7 @@ func newObjective(obs *Observations, kind brdf.Kind, eps, delta float64, threads
 	}
 	o.partLoss = make([]float64, o.nchunks)
 	o.partGrad = make([][brdf.MaxParams]float64, o.nchunks)
+	o.partHess = make([][brdf.MaxParams * brdf.MaxParams]float64, o.nchunks)
 	for c, src := range [][]float32{obs.R, obs.G, obs.B} {
 		dst := make([]float32, n)
 		for i, v := range src {
@@ -113,7 +116,11 @@ func (o *objective) drain() {
 		if c >= o.nchunks {
 			return
 		}
-		o.partLoss[c] = o.chunk(c, &o.params, o.wantGrad, &o.partGrad[c])
+		var h *[brdf.MaxParams * brdf.MaxParams]float64
+		if o.wantHess {
+			h = &o.partHess[c]
+		}
+		o.partLoss[c] = o.chunk(c, &o.params, o.wantGrad, &o.partGrad[c], h)
 	}
 }
 
@@ -121,8 +128,21 @@ func (o *objective) drain() {
 // writes its gradient with respect to p's vector (brdf's order) into grad.
 // It allocates nothing.
 func (o *objective) eval(p *brdf.Params, grad []float64) float64 {
+	return o.evalHess(p, grad, nil)
+}
+
+// evalHess is eval that also writes, when hess is not nil (np*np,
+// row-major), the Gauss-Newton approximation of the loss's Hessian with the
+// robust loss's iteratively-reweighted-least-squares weights:
+//
+//	H = 1/(3N) * sum w J J^T,  w = 1/sqrt(1 + (r/delta)^2),  J = dr/dp
+//
+// (w = psi(r)/r, the IRLS weight of Charbonnier; Holland and Welsch,
+// "Robust regression using iteratively reweighted least-squares", 1977).
+func (o *objective) evalHess(p *brdf.Params, grad, hess []float64) float64 {
 	o.params = *p
-	o.wantGrad = grad != nil
+	o.wantGrad = grad != nil || hess != nil
+	o.wantHess = hess != nil
 	o.next.Store(0)
 	o.passes++
 	if o.threads > 1 {
@@ -150,6 +170,19 @@ func (o *objective) eval(p *brdf.Params, grad []float64) float64 {
 			grad[k] = s * norm
 		}
 	}
+	if hess != nil {
+		np := o.np
+		for a := 0; a < np; a++ {
+			for b := 0; b <= a; b++ {
+				s := 0.0
+				for c := 0; c < o.nchunks; c++ {
+					s += o.partHess[c][a*np+b]
+				}
+				hess[a*np+b] = s * norm
+				hess[b*np+a] = s * norm
+			}
+		}
+	}
 	return loss * norm
 }
 
@@ -169,7 +202,7 @@ func logRatio(y float64) float64 {
 }
 
 // chunk evaluates the unnormalised loss sum (and gradient sum) of one chunk.
-func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxParams]float64) float64 {
+func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxParams]float64, hs *[brdf.MaxParams * brdf.MaxParams]float64) float64 {
 	ob := o.obs
 	lo := c * chunkSize
 	hi := min(lo+chunkSize, ob.Len())
@@ -178,6 +211,8 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 	d2 := delta * delta
 	inv := 1 / delta
 	var gs [brdf.MaxParams]float64
+	var hl [brdf.MaxParams * brdf.MaxParams]float64 // lower triangle
+	wantHess := hs != nil
 	var bg brdf.Grad
 	loss := 0.0
 	for i := lo; i < hi; i++ {
@@ -215,9 +250,22 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 				for k := 0; k < np; k++ {
 					gs[k] += w * dm[ch][k]
 				}
+				if wantHess {
+					// IRLS weight 1/sq times J J^T, J = dm/(m+eps).
+					wh := 1 / (sq * me * me)
+					for a := 0; a < np; a++ {
+						ja := wh * dm[ch][a]
+						for b := 0; b <= a; b++ {
+							hl[a*np+b] += ja * dm[ch][b]
+						}
+					}
+				}
 			}
 		}
 	}
 	*g = gs
+	if wantHess {
+		*hs = hl
+	}
 	return loss
 }

@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/diff/fd"
+	"gonum.org/v1/gonum/mat"
 
 	"patina/brdf"
 )
@@ -129,5 +130,44 @@ func TestLogRatio(t *testing.T) {
 		if d := math.Abs(logRatio(y) - math.Log(y)); d > 1e-13 {
 			t.Fatalf("logRatio(%v) = %v, math.Log %v (difference %.2g)", y, logRatio(y), math.Log(y), d)
 		}
+	}
+}
+
+// TestGaussNewtonMatrix checks the objective's Gauss-Newton matrix at the
+// truth of noise-free observations, where every residual is 0 and the
+// Gauss-Newton approximation equals the true Hessian (Nocedal and Wright,
+// "Numerical Optimization", 2006, section 10.1): against the Jacobian of
+// the analytic gradient by central finite differences (gonum diff/fd).
+func TestGaussNewtonMatrix(t *testing.T) {
+	for _, c := range recoveryGrid()[:5] {
+		obs := sphereScene(20).render(c.kind, c.diffuse, c.f0, c.rough, 0, nil)
+		obj := newObjective(obs, c.kind, 1e-3, 0.1, 2)
+		np := c.kind.NumParams()
+		truth := truthParams(c.kind, c.diffuse, c.f0, c.rough)
+		var x [brdf.MaxParams]float64
+		xs := truth.Vector(x[:0])
+		hess := make([]float64, np*np)
+		grad := make([]float64, np)
+		obj.evalHess(&truth, grad, hess)
+		want := mat.NewDense(np, np, nil)
+		fd.Jacobian(want, func(y, v []float64) {
+			q := brdf.Params{Kind: c.kind}
+			if err := q.FromVector(v); err != nil {
+				t.Fatal(err)
+			}
+			obj.eval(&q, y)
+		}, xs, &fd.JacobianSettings{Formula: fd.Central})
+		scale := 0.0
+		for k := 0; k < np; k++ {
+			scale = math.Max(scale, math.Abs(want.At(k, k)))
+		}
+		for a := 0; a < np; a++ {
+			for b := 0; b < np; b++ {
+				if d := math.Abs(hess[a*np+b] - want.At(a, b)); d > 1e-4*scale {
+					t.Errorf("%v: H[%d][%d] = %.9g, finite difference of the gradient %.9g", c, a, b, hess[a*np+b], want.At(a, b))
+				}
+			}
+		}
+		obj.close()
 	}
 }

@@ -23,17 +23,24 @@ const (
 	// ICLR 2015) on the full batch, with its step halved on a plateau: the
 	// robust baseline, insensitive to scaling and to a rough start.
 	Adam Optimizer = "adam"
+	// LM is Levenberg-Marquardt (Marquardt, J. SIAM 11(2), 1963) on the
+	// Gauss-Newton model of the robust loss with its IRLS weights: each
+	// pass evaluates loss, gradient and the weighted J^T W J together, and
+	// the damped Newton step is solved in theta with the diagonal of that
+	// matrix as the scaling, so parameters of very different sensitivity
+	// (a diffuse colour and a roughness) take well-proportioned steps.
+	LM Optimizer = "lm"
 )
 
 // ParseOptimizer checks an optimiser name ("" gives the default).
 func ParseOptimizer(s string) (Optimizer, error) {
 	switch Optimizer(s) {
 	case "":
-		return LBFGS, nil
-	case LBFGS, Adam:
+		return LM, nil
+	case LBFGS, Adam, LM:
 		return Optimizer(s), nil
 	}
-	return "", fmt.Errorf("fit: unknown optimizer %q (expected %q or %q)", s, LBFGS, Adam)
+	return "", fmt.Errorf("fit: unknown optimizer %q (expected %q, %q or %q)", s, LM, LBFGS, Adam)
 }
 
 // bounds maps the unconstrained vector theta the optimisers work on to the
@@ -171,6 +178,8 @@ func minimize(ctx context.Context, method Optimizer, tp *thetaProblem, theta []f
 	switch method {
 	case Adam:
 		loss, reason, err = runAdam(ctx, tp, theta, rules)
+	case LM:
+		loss, reason, err = runLM(ctx, tp, theta, rules)
 	default:
 		loss, reason, err = runLBFGS(ctx, tp, theta, rules)
 	}
@@ -322,4 +331,176 @@ func runLBFGS(ctx context.Context, tp *thetaProblem, theta []float64, rules stop
 	// A line search that cannot improve further (as happens at an optimum
 	// reached to machine precision) ends here.
 	return bestF, stopStalled, nil
+}
+
+// evalHess evaluates loss, gradient and the Gauss-Newton matrix in theta
+// (one pass): with D = dp/dtheta (diagonal, 0 for a held entry),
+// g_theta = D g_p and H_theta = D H_p D. hess receives n*n entries.
+func (tp *thetaProblem) evalHess(theta, hess []float64) (float64, []float64) {
+	n := tp.b.n
+	tp.b.natural(theta, tp.v[:n])
+	if err := tp.params.FromVector(tp.v[:n]); err != nil {
+		panic("fit: internal: " + err.Error())
+	}
+	var hp [brdf.MaxParams * brdf.MaxParams]float64
+	f := tp.obj.evalHess(&tp.params, tp.gp[:n], hp[:n*n])
+	tp.b.chain(theta, tp.gp[:n], tp.lastG[:n])
+	var one, d [brdf.MaxParams]float64
+	for k := 0; k < n; k++ {
+		one[k] = 1
+	}
+	tp.b.chain(theta, one[:n], d[:n])
+	for a := 0; a < n; a++ {
+		for b := 0; b < n; b++ {
+			hess[a*n+b] = d[a] * hp[a*n+b] * d[b]
+		}
+	}
+	copy(tp.lastX[:n], theta)
+	tp.lastF = f
+	tp.valid = true
+	tp.history = append(tp.history, f)
+	if tp.onPass != nil && tp.err == nil {
+		tp.err = tp.onPass(theta, f)
+	}
+	return f, tp.lastG[:n]
+}
+
+// solveDamped solves (H + lambda diag(H)) x = -g for n <= brdf.MaxParams by
+// Cholesky, without allocating. A zero diagonal (a held parameter) gets a
+// unit one so its step is 0. It reports false when the matrix is not
+// positive definite.
+func solveDamped(n int, h, g []float64, lambda float64, x []float64) bool {
+	var a [brdf.MaxParams * brdf.MaxParams]float64
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			a[i*n+j] = h[i*n+j]
+		}
+		dg := h[i*n+i]
+		if !(dg > 0) {
+			for j := 0; j < n; j++ {
+				a[i*n+j], a[j*n+i] = 0, 0
+			}
+			dg = 1
+		}
+		a[i*n+i] = dg * (1 + lambda)
+	}
+	// In-place Cholesky a = L L^T (lower triangle).
+	for j := 0; j < n; j++ {
+		s := a[j*n+j]
+		for k := 0; k < j; k++ {
+			s -= a[j*n+k] * a[j*n+k]
+		}
+		if !(s > 0) {
+			return false
+		}
+		a[j*n+j] = math.Sqrt(s)
+		for i := j + 1; i < n; i++ {
+			t := a[i*n+j]
+			for k := 0; k < j; k++ {
+				t -= a[i*n+k] * a[j*n+k]
+			}
+			a[i*n+j] = t / a[j*n+j]
+		}
+	}
+	var y [brdf.MaxParams]float64
+	for i := 0; i < n; i++ {
+		t := -g[i]
+		for k := 0; k < i; k++ {
+			t -= a[i*n+k] * y[k]
+		}
+		y[i] = t / a[i*n+i]
+	}
+	for i := n - 1; i >= 0; i-- {
+		t := y[i]
+		for k := i + 1; k < n; k++ {
+			t -= a[k*n+i] * x[k]
+		}
+		x[i] = t / a[i*n+i]
+	}
+	return true
+}
+
+// runLM is Levenberg-Marquardt with Marquardt's diagonal scaling: a step
+// that lowers the loss is taken and the damping divided by 3, one that
+// does not is refused (its pass still counts) and the damping multiplied
+// by 4 (Nielsen's rules, "Damping parameter in Marquardt's method", IMM
+// DTU report, 1999, in their simplest form). Every pass evaluates the
+// trial point's loss, gradient and Gauss-Newton matrix together, so an
+// accepted step needs no further evaluation.
+func runLM(ctx context.Context, tp *thetaProblem, theta []float64, rules stopRules) (float64, string, error) {
+	n := len(theta)
+	start := tp.obj.passes
+	var h, ht [brdf.MaxParams * brdf.MaxParams]float64
+	var g, step, trial [brdf.MaxParams]float64
+	if err := ctx.Err(); err != nil {
+		return math.Inf(1), "", err
+	}
+	f, gr := tp.evalHess(theta, h[:n*n])
+	copy(g[:n], gr)
+	if tp.err != nil {
+		return f, "", tp.err
+	}
+	lambda := 1e-3
+	since := 0
+	for {
+		gn := 0.0
+		for _, x := range g[:n] {
+			gn = math.Max(gn, math.Abs(x))
+		}
+		switch {
+		case gn < rules.gradTol:
+			return f, stopGradient, nil
+		case since >= rules.patience:
+			return f, stopConverged, nil
+		case tp.obj.passes-start >= rules.maxPasses:
+			return f, stopPasses, nil
+		case lambda > 1e12:
+			return f, stopStalled, nil
+		}
+		if err := ctx.Err(); err != nil {
+			return f, "", err
+		}
+		if !solveDamped(n, h[:n*n], g[:n], lambda, step[:n]) {
+			lambda *= 4
+			since++
+			continue
+		}
+		// The decrease the Gauss-Newton model predicts for the step: when
+		// even that is below the tolerance the fit has converged, whether
+		// or not the step is taken; a refused step that promised more
+		// only needs more damping, and is not counted against patience.
+		pred := 0.0
+		for a := 0; a < n; a++ {
+			hs := 0.0
+			for b := 0; b < n; b++ {
+				hs += h[a*n+b] * step[b]
+			}
+			pred -= g[a]*step[a] + 0.5*step[a]*hs
+		}
+		tiny := pred <= rules.relTol*math.Abs(f)+rules.absTol
+		for k := 0; k < n; k++ {
+			trial[k] = theta[k] + step[k]
+		}
+		ft, gt := tp.evalHess(trial[:n], ht[:n*n])
+		if tp.err != nil {
+			return f, "", tp.err
+		}
+		if ft < f {
+			if f-ft > rules.relTol*math.Abs(ft)+rules.absTol {
+				since = 0
+			} else {
+				since++
+			}
+			f = ft
+			copy(theta, trial[:n])
+			copy(g[:n], gt)
+			h = ht
+			lambda = math.Max(lambda/3, 1e-12)
+		} else {
+			lambda *= 4
+			if tiny {
+				since++
+			}
+		}
+	}
 }

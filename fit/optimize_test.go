@@ -19,8 +19,8 @@ func optimizerCases() []*Observations {
 	return out
 }
 
-// TestOptimizersAgree: Adam and L-BFGS reach the same optimum on noisy
-// data (parameters within a tenth of a sigma).
+// TestOptimizersAgree: Adam, L-BFGS and Levenberg-Marquardt reach the same
+// optimum on noisy data (parameters within a tenth of a sigma).
 func TestOptimizersAgree(t *testing.T) {
 	kinds := []brdf.Kind{brdf.Dielectric, brdf.Metal, brdf.Free}
 	for i, obs := range optimizerCases() {
@@ -28,12 +28,19 @@ func TestOptimizersAgree(t *testing.T) {
 		must(t, err)
 		l, err := FitSegment(context.Background(), obs, kinds[i], Options{Optimizer: LBFGS, Threads: 2})
 		must(t, err)
+		m, err := FitSegment(context.Background(), obs, kinds[i], Options{Optimizer: LM, Threads: 2})
+		must(t, err)
+		var pm [brdf.MaxParams]float64
+		m.Params.Vector(pm[:0])
 		var pa, pl, s [brdf.MaxParams]float64
 		a.Params.Vector(pa[:0])
 		l.Params.Vector(pl[:0])
 		l.Sigma.Vector(s[:0])
-		t.Logf("%v: adam %d passes (%s) loss %.9g; lbfgs %d passes (%s) loss %.9g", kinds[i], a.Passes, a.Stop, a.Loss, l.Passes, l.Stop, l.Loss)
+		t.Logf("%v: adam %d passes (%s) loss %.9g; lbfgs %d passes (%s) loss %.9g; lm %d passes (%s) loss %.9g", kinds[i], a.Passes, a.Stop, a.Loss, l.Passes, l.Stop, l.Loss, m.Passes, m.Stop, m.Loss)
 		for k := 0; k < kinds[i].NumParams(); k++ {
+			if math.Abs(pm[k]-pl[k]) > 0.1*s[k] {
+				t.Errorf("%v param %d: lm %.6f, lbfgs %.6f (sigma %.2g)", kinds[i], k, pm[k], pl[k], s[k])
+			}
 			if math.Abs(pa[k]-pl[k]) > 0.1*s[k] {
 				t.Errorf("%v param %d: adam %.6f, lbfgs %.6f (sigma %.2g)", kinds[i], k, pa[k], pl[k], s[k])
 			}
@@ -47,7 +54,7 @@ func TestOptimizersAgree(t *testing.T) {
 func BenchmarkOptimizers(b *testing.B) {
 	cases := optimizerCases()
 	kinds := []brdf.Kind{brdf.Dielectric, brdf.Metal, brdf.Free}
-	for _, m := range []Optimizer{LBFGS, Adam} {
+	for _, m := range []Optimizer{LM, LBFGS, Adam} {
 		b.Run(string(m), func(b *testing.B) {
 			passes := 0
 			for i := 0; i < b.N; i++ {

@@ -10,7 +10,7 @@ import (
 // Options tune a fit. The zero value is the documented default for every
 // field; a field says its unit.
 type Options struct {
-	// Optimizer is LBFGS (default) or Adam.
+	// Optimizer is LM (default), LBFGS or Adam.
 	Optimizer Optimizer
 	// Samples caps the observations taken per segment from each photo
 	// (pixels are drawn stratified over the segment's image area). Default
@@ -99,7 +99,7 @@ type Options struct {
 
 func (o Options) withDefaults() Options {
 	if o.Optimizer == "" {
-		o.Optimizer = LBFGS
+		o.Optimizer = LM
 	}
 	if o.Samples == 0 {
 		o.Samples = 4000

@@ -25,7 +25,7 @@ import (
 	"patina/fit"
 )
 
-const fitUsage = `patina fit CAPTURE.json [-o materials.json] [-locks M.json] [-optimizer lbfgs|adam] [-samples N] [-seed S] [-threads N] [-json] [-progress auto|always|never]
+const fitUsage = `patina fit CAPTURE.json [-o materials.json] [-locks M.json] [-optimizer lm|lbfgs|adam] [-samples N] [-seed S] [-threads N] [-json] [-progress auto|always|never]
 
 Fits the reflectance of every segment of the capture to its "fit" photos and
 writes the materials file (default: materials.json beside the capture), with
@@ -36,7 +36,7 @@ the per-segment table (or, with -json, the result as JSON) at the end.
   -locks FILE      a materials file whose segments list parameters under "locked"
                    (diffuse, specular, roughness): those are held at that file's
                    values during the fit, which estimates the others
-  -optimizer NAME  lbfgs (default) or adam
+  -optimizer NAME  lm (Levenberg-Marquardt, default), lbfgs or adam
   -samples N       observations per segment per photo, drawn stratified (default 4000; -1: all)
   -seed S          seed of the pixel sample (default 1)
   -threads N       goroutines (default: one per core)
@@ -60,7 +60,7 @@ func runFit(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	var f fitFlags
 	fs.StringVar(&f.out, "o", "", "materials file to write")
 	fs.StringVar(&f.locks, "locks", "", "materials file whose locked parameters are held")
-	fs.StringVar(&f.optimizer, "optimizer", "lbfgs", "lbfgs or adam")
+	fs.StringVar(&f.optimizer, "optimizer", "lm", "lm, lbfgs or adam")
 	fs.IntVar(&f.samples, "samples", 4000, "observations per segment per photo (-1: all)")
 	fs.Uint64Var(&f.seed, "seed", 1, "seed of the pixel sample")
 	fs.IntVar(&f.threads, "threads", 0, "goroutines (0: one per core)")

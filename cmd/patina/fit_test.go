@@ -33,7 +33,7 @@ func TestFitCommand(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(mf.Segments) != 3 || mf.Fit == nil || mf.Fit.Optimizer != "lbfgs" {
+	if len(mf.Segments) != 3 || mf.Fit == nil || mf.Fit.Optimizer != "lm" {
 		t.Errorf("materials file: %+v", mf)
 	}
 
