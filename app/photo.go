@@ -27,7 +27,12 @@ type photoView struct {
 
 // RejectionCounts counts the pixels the mask overlay marks, by reason.
 type RejectionCounts struct {
-	Border, Unassigned, Grazing, Masked, Saturated, Shadow, Kept int
+	Border, Unassigned, Grazing, Masked, Saturated, UnderExposed, Shadow, Kept int
+}
+
+// Total is the number of pixels counted: every pixel on the object.
+func (r RejectionCounts) Total() int {
+	return r.Border + r.Unassigned + r.Grazing + r.Masked + r.Saturated + r.UnderExposed + r.Shadow + r.Kept
 }
 
 // Reason colours of the mask overlay.
@@ -37,6 +42,7 @@ var (
 	colGrazing    = color.RGBA{255, 150, 0, 170}
 	colMasked     = color.RGBA{40, 40, 40, 200}
 	colSaturated  = color.RGBA{255, 0, 200, 200}
+	colUnderExp   = color.RGBA{150, 90, 30, 200}
 	colShadow     = color.RGBA{40, 80, 255, 170}
 	colWire       = color.RGBA{120, 255, 120, 110}
 )
@@ -125,7 +131,7 @@ func (s *Session) SelectPhoto(i int) {
 	}
 	cam, camErr := s.photoCamera(i)
 	lights, lightErr := s.photoLights(i)
-	in := overlayInput{ov: s.Overlays, sc: s.Scene, labelSeg: s.LabelSeg, gb: gb, cam: cam, lights: lights}
+	in := overlayInput{ov: s.Overlays, sc: s.Scene, labelSeg: s.LabelSeg, gb: gb, cam: cam, lights: lights, floor: s.noiseFloor(i)}
 	file := c.Photos[i].File
 	s.setStatus("Loading "+filepath.Base(file), 0)
 	var pv photoView
@@ -180,7 +186,8 @@ func (s *Session) refreshOverlay() {
 		return
 	}
 	lights, _ := s.photoLights(pv.index)
-	in := overlayInput{ov: s.Overlays, sc: s.Scene, labelSeg: s.LabelSeg, gb: pv.gb, cam: cam, lights: lights, img: pv.img, mask: pv.mask}
+	in := overlayInput{ov: s.Overlays, sc: s.Scene, labelSeg: s.LabelSeg, gb: pv.gb, cam: cam, lights: lights, img: pv.img, mask: pv.mask,
+		floor: s.noiseFloor(pv.index)}
 	idx := pv.index
 	s.jobs.start("overlay", func(ctx context.Context) error { return in.build(ctx) }, func(err error) {
 		s.post(func() {
@@ -205,6 +212,23 @@ type overlayInput struct {
 	gb       *render.GBuffer
 	dst      *image.RGBA
 	counts   RejectionCounts
+	// floor is the radiance below which a pixel is under-exposed.
+	floor float64
+}
+
+// overlayNoiseFloor mirrors the fit's default noise floor
+// (fit.Options.NoiseFloor): 0.002 times the photo's exposure multiplier,
+// about half an 8-bit code value of linear signal.
+const overlayNoiseFloor = 0.002
+
+// noiseFloor is the under-exposure threshold of photo i in the radiance
+// of its decoded pixels, as the fit sets it by default.
+func (s *Session) noiseFloor(i int) float64 {
+	e := 1.0
+	if d, err := s.Capture.Decoding(i); err == nil && d.Exposure > 0 {
+		e = d.Exposure
+	}
+	return overlayNoiseFloor * e
 }
 
 // Fit rejection rules mirrored for display (the fit's defaults, see
@@ -337,6 +361,12 @@ func (in *overlayInput) reject(x, y, k int, seg func(int) int) (color.RGBA, bool
 		in.counts.Saturated++
 		return colSaturated, true
 	}
+	// A pixel darker than the noise floor is in the cast shadow of the
+	// photo's lights or else under-exposed (the fit makes the same split
+	// with a shadow ray); a brighter pixel whose lights are all occluded
+	// is dropped as shadow when the fit draws it.
+	px := in.img.Pix[3*k : 3*k+3]
+	dark := (float64(px[0])+float64(px[1])+float64(px[2]))/3 < in.floor
 	if len(in.lights) > 0 {
 		shadowed := 0
 		o := p.AddScaled(gb.Ng[k], 1e-4*(1+p.Len()))
@@ -358,6 +388,10 @@ func (in *overlayInput) reject(x, y, k int, seg func(int) int) (color.RGBA, bool
 			in.counts.Shadow++
 			return colShadow, true
 		}
+	}
+	if dark {
+		in.counts.UnderExposed++
+		return colUnderExp, true
 	}
 	return color.RGBA{}, false
 }

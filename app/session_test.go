@@ -193,7 +193,7 @@ func TestOverlays(t *testing.T) {
 			hits++
 		}
 	}
-	sum := rc.Border + rc.Unassigned + rc.Grazing + rc.Masked + rc.Saturated + rc.Shadow + rc.Kept
+	sum := rc.Total()
 	if sum != hits || rc.Border == 0 || rc.Kept == 0 {
 		t.Fatalf("mask counts %+v sum %d, want %d hit pixels with some border and some kept", rc, sum, hits)
 	}
