@@ -18,7 +18,8 @@ import (
 // function, "previous" the implementation before the speed work
 // (prev_test.go), run in the same process one after the other, so the
 // ratio of the two is meaningful on a busy machine even when the absolute
-// figures are not.
+// figures are not. Sample has a third, "spherical-caps", the candidate
+// sampler of capsample_test.go.
 //
 // The loops use the results the way the callers do, channel by channel
 // (the fit sums f[c] times the irradiance, the renderer multiplies its
@@ -149,6 +150,24 @@ func BenchmarkSample(b *testing.B) {
 		for i := 0; i < b.N; i++ {
 			in := &benchIn[i&(benchN-1)]
 			wi, pdf, w, ok := prevSample(&p, in.wo, in.u)
+			if ok {
+				a0 += w[0] * wi.X
+				a1 += w[1] * wi.Y
+				a2 += w[2] * wi.Z
+				ap += pdf
+			}
+		}
+		sinkF = a0 + a1 + a2 + ap
+	})
+	b.Run("spherical-caps", func(b *testing.B) {
+		b.ReportAllocs()
+		p := benchParams
+		ct := startCPU(b)
+		defer ct.stop(b)
+		var a0, a1, a2, ap float64
+		for i := 0; i < b.N; i++ {
+			in := &benchIn[i&(benchN-1)]
+			wi, pdf, w, ok := capSample(&p, in.wo, in.u)
 			if ok {
 				a0 += w[0] * wi.X
 				a1 += w[1] * wi.Y

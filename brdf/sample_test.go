@@ -23,6 +23,9 @@ var sampleCases = []sampleCase{
 	{"normal view", Params{Kind: Free, Diffuse: RGB{0.5, 0.5, 0.5}, Specular: RGB{0.3, 0.3, 0.3}, Roughness: 0.6}, 0},
 }
 
+// sampleFunc is the sampler chiSquare draws from: Sample, or a candidate.
+var sampleFunc = Sample
+
 func viewDir(deg float64) Vec { return Spherical(deg*math.Pi/180, 0.3) }
 
 // lostProbability returns the probability that a specular sample reflects
@@ -110,7 +113,7 @@ func chiSquare(p *Params, wo Vec, pdf func(wi Vec) float64, lostProb float64, n 
 	rng := rand.New(rand.NewPCG(seed, 7))
 	for i := 0; i < n; i++ {
 		u := [3]float64{rng.Float64(), rng.Float64(), rng.Float64()}
-		wi, _, _, ok := Sample(p, wo, u)
+		wi, _, _, ok := sampleFunc(p, wo, u)
 		if !ok {
 			counts[binsMu*binsPhi]++
 			continue

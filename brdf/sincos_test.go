@@ -30,3 +30,19 @@ func TestSincos2pi(t *testing.T) {
 		t.Errorf("NaN gives %g %g", s, c)
 	}
 }
+
+// Sample writes sincos2pi out; this keeps the copy in step with the
+// function the test above checks: the diffuse lobe's direction is
+// (sqrt(u1) cos, sqrt(u1) sin, sqrt(1 - u1)) of 2 pi u2 bit for bit.
+func TestSampleUsesSincos2pi(t *testing.T) {
+	p := Params{Kind: Dielectric, Diffuse: RGB{0.8, 0.8, 0.8}, Specular: RGB{0.04, 0.04, 0.04}, Roughness: 0.5}
+	for i := 0; i < 1000; i++ {
+		u := [3]float64{0.999, float64(i)/1000 + 3e-4, float64(i*7919%1000)/1000 + 1e-4}
+		wi, _, _, ok := Sample(&p, Vec{0, 0, 1}, u)
+		s, c := sincos2pi(u[2])
+		r := math.Sqrt(u[1])
+		if !ok || wi.X != r*c || wi.Y != r*s {
+			t.Fatalf("u %v: wi %v, want (%g, %g, .)", u, wi, r*c, r*s)
+		}
+	}
+}
