@@ -80,7 +80,9 @@ func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64)
 		r := math.Sqrt(u[1])
 		p1, p2 := r*cs, r*sn
 		h := 0.5 * (1 + vz)
-		e := 1 - p1*p1
+		// 1 - p1^2 from u[1] rather than from r, so its square root
+		// need not wait for r's.
+		e := 1 - u[1]*(cs*cs)
 		if e < 0 {
 			e = 0
 		}
@@ -174,7 +176,10 @@ func PDF(p *Params, wo, wi Vec) float64 {
 		return 0
 	}
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
-	a, b := specularRatio(d0, d1, d2, s0, s1, s2, muO)
+	// specularRatio written out (a call would spill every live value).
+	w5 := pow5(1 - unit(muO))
+	o0, o1, o2 := 1-s0, 1-s1, 1-s2
+	a, b := lobeRatio(s0+s1+s2+(o0+o1+o2)*w5, (d0*o0*o0+d1*o1*o1+d2*o2*o2)*(1-w5))
 	a2 := p.alpha2()
 	// D as in geometry.set: alpha^2 |H|^4 / (pi q^2), H = wo + wi; the
 	// specular density is X / Y with X = alpha^2 |H|^4 and
