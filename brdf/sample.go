@@ -37,12 +37,15 @@ func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64)
 	// unit disk in polar form.
 	// sincos2pi(u[2]) written out (as a call it costs a fifth of Sample).
 	xs := u[2] * sinCosN
-	is := int(xs)
+	is := int(xs + 0.5)
+	if float64(is) > xs+0.5 {
+		is--
+	}
 	tab := &sinCosTable[is&(sinCosN-1)]
 	rs := (xs - float64(is)) * (2 * math.Pi / sinCosN)
 	zs := rs * rs
-	srs := rs * (1 + zs*(-1.0/6+zs*(1.0/120+zs*(-1.0/5040))))
-	crs := 1 + zs*(-1.0/2+zs*(1.0/24+zs*(-1.0/720+zs*(1.0/40320))))
+	srs := rs * (1 + zs*(-1.0/6+zs*(1.0/120)))
+	crs := 1 + zs*(-1.0/2+zs*(1.0/24+zs*(-1.0/720)))
 	sn, cs := tab[0]*crs+tab[1]*srs, tab[1]*crs-tab[0]*srs
 
 	d0, d1, d2, s0, s1, s2 := p.coeffs()

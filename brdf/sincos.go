@@ -5,9 +5,10 @@ import "math"
 // Fast sine and cosine of 2 pi u for the samplers. math.Sincos costs about
 // as much as the rest of Sample together; sampling only needs the pair to
 // a few ulps, so a table of 256 exact values plus the short Taylor series
-// of the remaining angle (|x| < 2 pi / 256, where the first omitted terms,
-// x^9/9! and x^8/8!, are below 1e-17) does the job in a fraction of the
-// time. The table is filled with math.Sincos, so results are the same on
+// of the remaining angle does the job in a fraction of the time. The angle
+// is rounded to the nearest table entry, so the rest is |x| <= pi / 256
+// and the first omitted terms of the series, x^7/7! and x^8/8!, are below
+// 1e-17. The table is filled with math.Sincos, so results are the same on
 // every run.
 
 const sinCosN = 256
@@ -34,12 +35,15 @@ var sinCosTable = func() (t [sinCosN][2]float64) {
 // functions are periodic); NaN gives NaN.
 func sincos2pi(u float64) (s, c float64) {
 	x := u * sinCosN
-	i := int(x)
-	d := x - float64(i) // in (-1, 1); the angle is 2 pi (i + d) / N
+	i := int(x + 0.5) // the nearest entry: truncation is floor for x >= -0.5
+	if float64(i) > x+0.5 {
+		i-- // floor below
+	}
+	d := x - float64(i) // in [-0.5, 0.5]; the angle is 2 pi (i + d) / N
 	t := &sinCosTable[i&(sinCosN-1)]
 	r := d * (2 * math.Pi / sinCosN)
 	z := r * r
-	sr := r * (1 + z*(-1.0/6+z*(1.0/120+z*(-1.0/5040))))
-	cr := 1 + z*(-1.0/2+z*(1.0/24+z*(-1.0/720+z*(1.0/40320))))
+	sr := r * (1 + z*(-1.0/6+z*(1.0/120)))
+	cr := 1 + z*(-1.0/2+z*(1.0/24+z*(-1.0/720)))
 	return t[0]*cr + t[1]*sr, t[1]*cr - t[0]*sr
 }
