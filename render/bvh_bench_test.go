@@ -98,12 +98,16 @@ var bigRays = sync.OnceValue(func() *benchRays { return makeBenchRays(bigScene()
 
 func benchBuild(b *testing.B, m *Mesh, threads int) {
 	b.ReportAllocs()
+	cpu0 := processCPU()
 	for b.Loop() {
 		if _, err := NewScene(m, threads); err != nil {
 			b.Fatal(err)
 		}
 	}
 	b.ReportMetric(float64(m.NumTriangles())*float64(b.N)/b.Elapsed().Seconds()*1e-6, "Mtris/s")
+	if cpu := processCPU() - cpu0; cpu > 0 {
+		b.ReportMetric(cpu/float64(b.N), "cpu-s/op")
+	}
 }
 
 // benchQuery times one query kind over a ray set, single-threaded.
@@ -203,6 +207,15 @@ func BenchmarkCast1600x1200(b *testing.B) {
 func threadCPU() float64 {
 	var ru syscall.Rusage
 	if err := syscall.Getrusage(1, &ru); err != nil {
+		return 0
+	}
+	return float64(ru.Utime.Nano()+ru.Stime.Nano()) * 1e-9
+}
+
+// processCPU returns the CPU time of the process in seconds (all threads).
+func processCPU() float64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
 		return 0
 	}
 	return float64(ru.Utime.Nano()+ru.Stime.Nano()) * 1e-9

@@ -72,6 +72,12 @@ func resetBins(bins *[maxBins]bin, nb int) {
 // box32 is a float32 box; centroid boxes hold doubled centroids (lo+hi).
 type box32 struct{ lo, hi [3]float32 }
 
+// doubled returns b scaled by 2 (exact), the bounds of the doubled
+// centroids of the triangles b bounds.
+func doubled(b box32) box32 {
+	return box32{[3]float32{2 * b.lo[0], 2 * b.lo[1], 2 * b.lo[2]}, [3]float32{2 * b.hi[0], 2 * b.hi[1], 2 * b.hi[2]}}
+}
+
 func emptyBox32() box32 {
 	inf := float32(math.Inf(1))
 	return box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}
@@ -329,8 +335,7 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 				st.leaves = 1
 				return ^int32(lo), int32(n), st
 			}
-			mid, lcb, rcb = partition(refs, &m, bestAxis, int32(bestSplit))
-			mid += lo
+			mid = lo + partition(refs, &m, bestAxis, int32(bestSplit))
 			lbox, rbox = emptyBox32(), emptyBox32()
 			for k := 0; k < bestSplit; k++ {
 				lbox = union32(lbox, bs[bestAxis][k].box32)
@@ -338,6 +343,12 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 			for k := bestSplit; k < nb; k++ {
 				rbox = union32(rbox, bs[bestAxis][k].box32)
 			}
+			// The children bin over their doubled bounds rather than their
+			// doubled-centroid bounds: these come free from the bins, and
+			// for a mesh of small triangles they differ by half a triangle
+			// at each end. A range whose centroids all coincide then finds
+			// no split with both sides non-empty and takes the median split.
+			lcb, rcb = doubled(lbox), doubled(rbox)
 		} else if n <= maxLeafSize {
 			st.leaves = 1
 			return ^int32(lo), int32(n), st
@@ -418,29 +429,28 @@ func (bd *builder) binLarge(refs []primRef, m binMap, nb int, bs *binSet) {
 }
 
 // partition moves the refs whose bin along axis is below split to the front
-// and returns their count and the doubled-centroid bounds of both sides.
-func partition(refs []primRef, m *binMap, axis int, split int32) (int, box32, box32) {
-	lcb, rcb := emptyBox32(), emptyBox32()
+// and returns their count.
+func partition(refs []primRef, m *binMap, axis int, split int32) int {
 	i, j := 0, len(refs)-1
 	for i <= j {
 		r := &refs[i]
-		cx, cy, cz := r.lo[0]+r.hi[0], r.lo[1]+r.hi[1], r.lo[2]+r.hi[2]
-		c := cx
-		if axis == 1 {
-			c = cy
-		} else if axis == 2 {
-			c = cz
+		var c float32
+		switch axis {
+		case 0:
+			c = r.lo[0] + r.hi[0]
+		case 1:
+			c = r.lo[1] + r.hi[1]
+		default:
+			c = r.lo[2] + r.hi[2]
 		}
 		if m.bin(c, axis) < split {
-			lcb.extendPoint(cx, cy, cz)
 			i++
 		} else {
-			rcb.extendPoint(cx, cy, cz)
 			refs[i], refs[j] = refs[j], refs[i]
 			j--
 		}
 	}
-	return i, lcb, rcb
+	return i
 }
 
 // setChild stores a child's box rounded outwards by one float32 step. The
