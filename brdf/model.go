@@ -80,7 +80,7 @@ func EvalLobes(p *Params, wo, wi Vec) (diffuse, specular RGB) {
 func (g *geometry) channel(d, f0 float64) float64 { return channel(d, f0, g.dv, g.w, g.kd) }
 
 // geometry holds the parameter-independent factors of the model for one
-// pair of directions.
+// pair of directions (for EvalLobes; the hot paths keep them in scalars).
 type geometry struct {
 	hz2 float64 // (muO + muI)^2, the squared z of the unnormalised half vector
 	l2  float64 // |wo + wi|^2
@@ -110,8 +110,9 @@ func (g *geometry) set(a2 float64, wo, wi Vec) {
 	g.dv = g.x / (g.p * g.den)
 }
 
-// prepare fills every field of g but dv, whose division Sample folds into
-// its own.
+// prepare fills every field of g but dv. (eval, evalGrad and sample
+// write these expressions out with scalars; EvalLobes uses them as they
+// are.)
 func (g *geometry) prepare(a2 float64, wo, wi Vec) {
 	muO, muI := wo.Z, wi.Z
 	hx, hy, hz := wo.X+wi.X, wo.Y+wi.Y, muO+muI
