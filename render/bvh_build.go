@@ -173,6 +173,7 @@ type buildScratch struct {
 	bins   binSet
 	rArea  [maxBins]float64
 	rCount [maxBins]int32
+	rBox   [3][maxBins]box32 // bounds of bins k.. per axis, from the right-to-left sweep
 }
 
 func (bd *builder) tryAcquire() bool {
@@ -291,10 +292,12 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 		rCount := &sc.rCount
 		bestCost := math.Inf(1)
 		bestAxis, bestSplit := -1, 0
+		var bestLeft box32
 		for a := 0; a < 3; a++ {
 			if m.scale[a] == 0 {
 				continue
 			}
+			rBox := &sc.rBox[a]
 			acc := emptyBox32()
 			cnt := int32(0)
 			for k := nb - 1; k > 0; k-- {
@@ -303,6 +306,7 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 				cnt += bk.n
 				rArea[k] = acc.area()
 				rCount[k] = cnt
+				rBox[k&(maxBins-1)] = acc
 			}
 			acc = emptyBox32()
 			cnt = 0
@@ -316,13 +320,13 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 				c := acc.area()*float64(cnt) + rArea[k]*float64(rCount[k])
 				if c < bestCost {
 					bestCost, bestAxis, bestSplit = c, a, k
+					bestLeft = acc
 				}
 			}
 		}
 		if bestAxis >= 0 {
-			for k := 0; k < nb; k++ {
-				nodeBox = union32(nodeBox, bs[bestAxis][k].box32)
-			}
+			lbox, rbox = bestLeft, sc.rBox[bestAxis][bestSplit&(maxBins-1)]
+			nodeBox = union32(lbox, rbox)
 		}
 		if bestAxis >= 0 {
 			area := nodeBox.area()
@@ -336,13 +340,6 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 				return ^int32(lo), int32(n), st
 			}
 			mid = lo + partition(refs, &m, bestAxis, int32(bestSplit))
-			lbox, rbox = emptyBox32(), emptyBox32()
-			for k := 0; k < bestSplit; k++ {
-				lbox = union32(lbox, bs[bestAxis][k].box32)
-			}
-			for k := bestSplit; k < nb; k++ {
-				rbox = union32(rbox, bs[bestAxis][k].box32)
-			}
 			// The children bin over their doubled bounds rather than their
 			// doubled-centroid bounds: these come free from the bins, and
 			// for a mesh of small triangles they differ by half a triangle
@@ -460,10 +457,9 @@ func partition(refs []primRef, m *binMap, axis int, split int32) int {
 // vertex's coordinate is strictly inside the slab.
 func (nd *bvhNode) setChild(c int, b box32, ref, count int32) {
 	if b.lo[0] <= b.hi[0] {
-		up, down := float32(math.Inf(1)), float32(math.Inf(-1))
 		for a := 0; a < 3; a++ {
-			b.lo[a] = math.Nextafter32(b.lo[a], down)
-			b.hi[a] = math.Nextafter32(b.hi[a], up)
+			b.lo[a] = -nextUp32(-b.lo[a])
+			b.hi[a] = nextUp32(b.hi[a])
 		}
 	}
 	o := 6 * (c & 1)
@@ -473,4 +469,17 @@ func (nd *bvhNode) setChild(c int, b box32, ref, count int32) {
 		ref = ^(^ref<<leafCountBits | count)
 	}
 	nd.child[c&1] = ref
+}
+
+// nextUp32 returns the least float32 above the finite x: math.Nextafter32
+// towards +Inf without its NaN and infinity cases, which the build never
+// meets (mesh coordinates are checked finite).
+func nextUp32(x float32) float32 {
+	switch {
+	case x > 0:
+		return math.Float32frombits(math.Float32bits(x) + 1)
+	case x < 0:
+		return math.Float32frombits(math.Float32bits(x) - 1)
+	}
+	return math.Float32frombits(1) // from either zero: the least subnormal
 }
