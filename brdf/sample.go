@@ -47,6 +47,8 @@ func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64)
 	srs := rs * (1 + zs*(-1.0/6+zs*(1.0/120)))
 	crs := 1 + zs*(-1.0/2+zs*(1.0/24+zs*(-1.0/720)))
 	sn, cs := tab[0]*crs+tab[1]*srs, tab[1]*crs-tab[0]*srs
+	r := math.Sqrt(u[1])
+	p1, p2 := r*cs, r*sn
 
 	d0, d1, d2, s0, s1, s2 := p.coeffs()
 	// SpecularProbability, written out, as the fraction a / b.
@@ -80,8 +82,6 @@ func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64)
 		t2x, t2y, t2z := -vz*t1y, vz*t1x, vx*t1y-vy*t1x // vh x t1
 		// A uniform point on the unit disk, warped onto the visible half
 		// of the hemisphere.
-		r := math.Sqrt(u[1])
-		p1, p2 := r*cs, r*sn
 		h := 0.5 * (1 + vz)
 		// 1 - p1^2 from u[1] rather than from r, so its square root
 		// need not wait for r's.
@@ -113,12 +113,11 @@ func sample(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf float64)
 	} else {
 		// Cosine-weighted hemisphere (Malley's method): a uniform point
 		// on the unit disk lifted to the hemisphere.
-		r := math.Sqrt(u[1])
 		z := 1 - u[1]
 		if z < 0 {
 			z = 0
 		}
-		wi = Vec{r * cs, r * sn, math.Sqrt(z)}
+		wi = Vec{p1, p2, math.Sqrt(z)}
 	}
 	muI := wi.Z
 	if !(muI > 0) {
