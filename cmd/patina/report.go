@@ -6,6 +6,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -18,8 +19,8 @@ import (
 	"patina/fit/report"
 )
 
-const reportUsage = `patina report CAPTURE.json -materials M.json [-o report.html] [-spp N] [-max-spp N]
-       [-depth D] [-tolerance NAME] [-seed S] [-threads N] [-progress auto|always|never]
+const reportUsage = `patina report CAPTURE.json -materials M.json [-o report.html] [-spp N] [-min-spp N] [-max-spp N]
+       [-noise-ratio R] [-depth D] [-tolerance NAME] [-seed S] [-threads N] [-progress auto|always|never]
 
 Proves the materials file against the capture's holdout photos: renders the
 view of every photo marked "holdout" under its lights with the fitted
@@ -34,9 +35,10 @@ report.html) and a checksum file (report.sha256, in sha256sum's format)
 holding the SHA-256 of both. Every file is written atomically.
 
 -spp 0 (the default) chooses the samples per pixel of each render so that
-its noise is below half the photo's own on the typical pixel: the render
-stops at the first pass of 16, 32, 64, ... samples whose measured noise meets
-that, against the photo's noise estimated with Immerkaer's operator, or at
+its noise is below -noise-ratio (default 0.5) times the photo's own on the
+typical pixel: a pilot render of a few thousand pixels measures the render's
+noise, the photo's is estimated with Immerkaer's operator, and the render
+gets the samples the ratio needs, at least -min-spp (default 16) and at most
 -max-spp (default 64; the page says when the cap bound).
 -depth is the largest number of scattering events (default 4: direct and
 indirect light). -seed selects the renders' random sequence: the same seed
@@ -127,6 +129,8 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	out := fs.String("o", "report.html", "HTML page to write; the JSON record and checksum file go beside it")
 	spp := fs.Int("spp", 0, "samples per pixel (0: chosen by the noise rule)")
 	maxSPP := fs.Int("max-spp", report.DefaultMaxSPP, "largest samples per pixel the noise rule may choose")
+	minSPP := fs.Int("min-spp", report.MinSPP, "fewest samples per pixel the noise rule may choose")
+	ratio := fs.Float64("noise-ratio", report.DefaultNoiseRatio, "wanted ratio of the render's noise to the photo's")
 	depth := fs.Int("depth", report.DefaultMaxDepth, "largest number of scattering events")
 	tolName := fs.String("tolerance", metrics.FADGI3Star.Name, "tolerance preset")
 	seed := fs.Uint64("seed", 1, "random seed of the renders")
@@ -156,7 +160,13 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	if st, err := os.Stat(filepath.Dir(*out)); err != nil || !st.IsDir() {
 		return badInputf("report: -o %s: the directory %s does not exist", *out, filepath.Dir(*out))
 	}
-	opts := report.Options{SPP: *spp, MaxSPP: *maxSPP, MaxDepth: *depth, Seed: *seed, Threads: *threads, Tolerance: tol}
+	opts := report.Options{SPP: *spp, MinSPP: *minSPP, MaxSPP: *maxSPP, NoiseRatio: *ratio, MaxDepth: *depth, Seed: *seed, Threads: *threads, Tolerance: tol}
+	if *minSPP < report.LowestMinSPP {
+		return badInputf("report: -min-spp %d: expected %d..%d", *minSPP, report.LowestMinSPP, report.MaxSPPLimit)
+	}
+	if !(*ratio > 0) || math.IsInf(*ratio, 0) {
+		return badInputf("report: -noise-ratio %v: expected a finite value above 0", *ratio)
+	}
 	if *depth <= 0 {
 		return badInputf("report: -depth %d: expected 1..1024", *depth)
 	}

@@ -208,7 +208,13 @@ func (m *Maps) draw(render, photo []float32, peak float64, r *Result, opt Option
 	if m.LightnessScale == 0 {
 		m.LightnessScale = 10
 	}
-	w, h := m.Width, m.Height
+	blk := max(1, opt.ImageBlock)
+	// w, h are the pictures' size from here on.
+	w, h := (m.Width+blk-1)/blk, (m.Height+blk-1)/blk
+	de, dl := m.DeltaE, m.DeltaL
+	if blk > 1 {
+		de, dl = blockMeans(m.DeltaE, m.DeltaL, m.Width, m.Height, blk)
+	}
 	fs := fontSize(h)
 	period := max(3, fs/3)
 
@@ -222,7 +228,7 @@ func (m *Maps) draw(render, photo []float32, peak float64, r *Result, opt Option
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
-			d := m.DeltaE[i]
+			d := de[i]
 			if d != d {
 				c := hatch(x, y, period)
 				put(deMap.Pix, i, c)
@@ -230,24 +236,32 @@ func (m *Maps) draw(render, photo []float32, peak float64, r *Result, opt Option
 				continue
 			}
 			put(deMap.Pix, i, seq.at(float64(d)/m.DeltaEScale))
-			put(dlMap.Pix, i, div.at((float64(m.DeltaL[i])/m.LightnessScale+1)/2))
+			put(dlMap.Pix, i, div.at((float64(dl[i])/m.LightnessScale+1)/2))
 		}
 	}
 
+	note := "about 1 \u0394E00 is just noticeable; hatched: not compared (background, saturated or masked)"
+	if blk > 1 {
+		note = fmt.Sprintf("each picture pixel: the mean of %dx%d image pixels; about 1 \u0394E00 is just noticeable; hatched: not compared", blk, blk)
+	}
 	deLegend := legend{
 		title: "CIEDE2000 colour difference \u0394E00 between photo and simulation",
 		scale: seq, lo: 0, hi: m.DeltaEScale,
 		lines: []string{
 			fmt.Sprintf("mean %.2f   median %.2f   95th percentile %.2f   maximum %.2f   over %d pixels",
 				r.DE2000Mean, r.DE2000Median, r.DE2000P95, r.DE2000Max, r.Pixels),
-			"about 1 \u0394E00 is just noticeable; hatched: not compared (background, saturated or masked)",
+			note,
 		},
+	}
+	dlNote := "hatched: not compared (background, saturated or masked)"
+	if blk > 1 {
+		dlNote = fmt.Sprintf("each picture pixel: the mean of %dx%d image pixels; hatched: not compared", blk, blk)
 	}
 	dlLegend := legend{
 		title: "Lightness difference \u0394L* (CIELAB), simulation minus photo",
 		scale: div, lo: -m.LightnessScale, hi: m.LightnessScale, signed: true,
 		ends:  [2]string{"simulation darker", "simulation lighter"},
-		lines: []string{"hatched: not compared (background, saturated or masked)"},
+		lines: []string{dlNote},
 	}
 	m.DeltaEImage = withLegend(deMap, deLegend, fs)
 	m.DeltaLImage = withLegend(dlMap, dlLegend, fs)
@@ -255,7 +269,7 @@ func (m *Maps) draw(render, photo []float32, peak float64, r *Result, opt Option
 	// The strip: photo | simulation | map, on the same exposure as the
 	// metrics (Peak as white).
 	gap := max(2, fs/4)
-	panels := []*image.RGBA{displayImage(photo, w, h, peak), displayImage(render, w, h, peak), deMap}
+	panels := []*image.RGBA{displayImage(photo, m.Width, m.Height, blk, peak), displayImage(render, m.Width, m.Height, blk, peak), deMap}
 	labels := []string{"photo", "simulation", "\u0394E00 map"}
 	sw := 3*w + 2*gap
 	top := image.NewRGBA(image.Rect(0, 0, sw, h))
@@ -268,20 +282,66 @@ func (m *Maps) draw(render, photo []float32, peak float64, r *Result, opt Option
 	m.Strip = withLegend(top, deLegend, fs)
 }
 
-// displayImage encodes linear RGB for display with peak as white.
-func displayImage(lin []float32, w, h int, peak float64) *image.RGBA {
-	img := image.NewRGBA(image.Rect(0, 0, w, h))
-	inv := 1 / peak
-	for i := 0; i < w*h; i++ {
-		p := img.Pix[4*i : 4*i+4 : 4*i+4]
-		for c := 0; c < 3; c++ {
-			v := float64(lin[3*i+c]) * inv
-			if v != v {
-				v = 0
+// blockMeans returns the means of the compared (not NaN) values of de and
+// dl over blocks of blk x blk pixels (the last row and column of blocks
+// may be smaller); NaN for a block with none.
+func blockMeans(de, dl []float32, w, h, blk int) (bde, bdl []float32) {
+	bw, bh := (w+blk-1)/blk, (h+blk-1)/blk
+	bde, bdl = make([]float32, bw*bh), make([]float32, bw*bh)
+	for by := 0; by < bh; by++ {
+		for bx := 0; bx < bw; bx++ {
+			var se, sl float64
+			n := 0
+			for y := by * blk; y < min((by+1)*blk, h); y++ {
+				for x := bx * blk; x < min((bx+1)*blk, w); x++ {
+					if d := de[y*w+x]; d == d {
+						se += float64(d)
+						sl += float64(dl[y*w+x])
+						n++
+					}
+				}
 			}
-			p[c] = to8(v)
+			j := by*bw + bx
+			if n == 0 {
+				bde[j], bdl[j] = float32(math.NaN()), float32(math.NaN())
+				continue
+			}
+			bde[j], bdl[j] = float32(se/float64(n)), float32(sl/float64(n))
 		}
-		p[3] = 255
+	}
+	return bde, bdl
+}
+
+// displayImage encodes linear RGB (w x h) for display with peak as white,
+// each picture pixel the mean of a block of blk x blk image pixels. NaN
+// values add nothing to the sum (invalid pixels may hold anything); with
+// blk 1 an infinity shows as white or black.
+func displayImage(lin []float32, w, h, blk int, peak float64) *image.RGBA {
+	bw, bh := (w+blk-1)/blk, (h+blk-1)/blk
+	img := image.NewRGBA(image.Rect(0, 0, bw, bh))
+	inv := 1 / peak
+	for by := 0; by < bh; by++ {
+		for bx := 0; bx < bw; bx++ {
+			var sum [3]float64
+			n := 0
+			for y := by * blk; y < min((by+1)*blk, h); y++ {
+				for x := bx * blk; x < min((bx+1)*blk, w); x++ {
+					i := y*w + x
+					for c := 0; c < 3; c++ {
+						if v := float64(lin[3*i+c]); v == v {
+							sum[c] += v
+						}
+					}
+					n++
+				}
+			}
+			j := by*bw + bx
+			p := img.Pix[4*j : 4*j+4 : 4*j+4]
+			for c := 0; c < 3; c++ {
+				p[c] = to8(sum[c] / float64(n) * inv)
+			}
+			p[3] = 255
+		}
 	}
 	return img
 }

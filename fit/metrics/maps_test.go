@@ -128,7 +128,7 @@ func TestMapImages(t *testing.T) {
 	}
 	// The label sits in the top-left corner of the render panel: there the
 	// strip differs from the plain display image.
-	plain := displayImage(p.render, w, h, res.Peak)
+	plain := displayImage(p.render, w, h, 1, res.Peak)
 	x0 := w + max(2, fontSize(h)/4)
 	changed := 0
 	for y := 0; y < fontSize(h)*2; y++ {
@@ -226,5 +226,80 @@ func TestTo8(t *testing.T) {
 	}
 	if to8(-1) != 0 || to8(2) != 255 || to8(math.NaN()) != 0 {
 		t.Error("to8 does not clip")
+	}
+}
+
+// TestImageBlock: with Options.ImageBlock the pictures shrink by the block
+// size (rounded up), the statistics do not change, and each picture pixel
+// is the box mean of its block (box reduction, common practice): the mean
+// linear value for the simulation panel, the mean Delta E 2000 of the
+// compared pixels for the map, hatched where none was compared.
+func TestImageBlock(t *testing.T) {
+	w, h, blk := 101, 77, 3
+	p := makePair(w, h, 5, true)
+	full, fm, err := Compare(p.render, p.photo, w, h, p.valid, p.segment, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	small, sm, err := Compare(p.render, p.photo, w, h, p.valid, p.segment, nil, Options{ImageBlock: blk})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if full.Stats() != small.Stats() || len(sm.DeltaE) != w*h {
+		t.Fatalf("ImageBlock changed the statistics or the per-pixel maps: %+v vs %+v", full.Stats(), small.Stats())
+	}
+	bw, bh := (w+blk-1)/blk, (h+blk-1)/blk
+	if b := sm.DeltaEImage.Bounds(); b.Dx() < bw || b.Dy() <= bh || b.Dy() >= fm.DeltaEImage.Bounds().Dy() {
+		t.Errorf("map picture %v for %dx%d blocks (full size %v)", b, bw, bh, fm.DeltaEImage.Bounds())
+	}
+	seq := sequentialScale()
+	gap := max(2, fontSize(bh)/4)
+	hatched := 0
+	for by := 0; by < bh; by++ {
+		for bx := 0; bx < bw; bx++ {
+			var se float64
+			var lin [3]float64
+			n, cnt := 0, 0
+			for y := by * blk; y < min(h, (by+1)*blk); y++ {
+				for x := bx * blk; x < min(w, (bx+1)*blk); x++ {
+					i := y*w + x
+					cnt++
+					for c := 0; c < 3; c++ {
+						if v := float64(p.render[3*i+c]); !math.IsNaN(v) {
+							lin[c] += v
+						}
+					}
+					if d := fm.DeltaE[i]; !math.IsNaN(float64(d)) {
+						se += float64(d)
+						n++
+					}
+				}
+			}
+			got := sm.DeltaEImage.RGBAAt(bx, by)
+			if n == 0 {
+				if got != hatchA && got != hatchB {
+					t.Fatalf("block (%d, %d) has no compared pixel but is drawn %v", bx, by, got)
+				}
+				hatched++
+			} else if want := seq.at(se / float64(n) / sm.DeltaEScale); got != want {
+				t.Fatalf("block (%d, %d): map %v, want %v (mean dE00 %.3f)", bx, by, got, want, se/float64(n))
+			}
+			// The simulation panel, away from its label.
+			if by < 2*fontSize(bh) {
+				continue
+			}
+			sim := sm.Strip.RGBAAt(bw+gap+bx, by)
+			for c, v := range []uint8{sim.R, sim.G, sim.B} {
+				if want := to8(lin[c] / float64(cnt) / small.Peak); v != want {
+					t.Fatalf("block (%d, %d) channel %d: simulation panel %d, want %d", bx, by, c, v, want)
+				}
+			}
+		}
+	}
+	if hatched == 0 {
+		t.Error("no hatched block: the test pair should have uncompared corners")
+	}
+	if _, _, err := Compare(p.render, p.photo, w, h, p.valid, p.segment, nil, Options{ImageBlock: MaxImageBlock + 1}); err == nil {
+		t.Error("ImageBlock beyond the limit accepted")
 	}
 }

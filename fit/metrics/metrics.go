@@ -58,7 +58,18 @@ type Options struct {
 	// LightnessScale is the |dL*| at the ends of the lightness-difference
 	// map's diverging scale. 0 means 10.
 	LightnessScale float64
+	// ImageBlock, above 1, draws the pictures at 1/ImageBlock of the
+	// image's width and height (rounded up): each picture pixel shows a
+	// block of ImageBlock x ImageBlock image pixels, the photo and the
+	// simulation as the mean of their linear values, the maps as the mean
+	// Delta E 2000 and dL* of the block's compared pixels (hatched where
+	// it has none). The statistics and Maps.DeltaE and Maps.DeltaL always
+	// use every pixel. 0 or 1 means full size; at most MaxImageBlock.
+	ImageBlock int
 }
+
+// MaxImageBlock bounds Options.ImageBlock.
+const MaxImageBlock = 64
 
 // Stats holds the metrics of a set of pixels.
 type Stats struct {
@@ -177,6 +188,9 @@ func Compare(render, photo []float32, w, h int, valid []bool, segment []int32, s
 	}
 	if opt.Threads < 0 {
 		return nil, nil, inputErrorf("Options.Threads %d: want >= 0", opt.Threads)
+	}
+	if opt.ImageBlock < 0 || opt.ImageBlock > MaxImageBlock {
+		return nil, nil, inputErrorf("Options.ImageBlock %d: want 0..%d", opt.ImageBlock, MaxImageBlock)
 	}
 	for _, s := range []struct {
 		name string

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"image"
 	"image/png"
+	"sync"
 )
 
 // encodePNG encodes img as PNG.
@@ -39,16 +40,31 @@ func (r *Report) addHoldoutImages(k int, rec *HoldoutRecord, ho *Holdout) error 
 		{"deltae", fmt.Sprintf("Held-out photo %d: CIEDE2000 colour difference per pixel between the photograph and the SIMULATION; hatched or blank pixels were not compared.", k+1), ho.Maps.DeltaEImage},
 		{"deltal", fmt.Sprintf("Held-out photo %d: lightness difference, SIMULATION minus photograph (CIELAB L*); blue where the simulation is darker, orange where it is lighter.", k+1), ho.Maps.DeltaLImage},
 	}
-	for _, it := range items {
+	// The pictures are encoded in parallel; each encoding is
+	// deterministic, and they are added in a fixed order.
+	encoded := make([][]byte, len(items))
+	errs := make([]error, len(items))
+	var wg sync.WaitGroup
+	for i, it := range items {
 		if it.img == nil {
 			continue
 		}
-		b, err := encodePNG(it.img)
-		if err != nil {
-			return err
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			encoded[i], errs[i] = encodePNG(it.img)
+		}()
+	}
+	wg.Wait()
+	for i, it := range items {
+		if it.img == nil {
+			continue
+		}
+		if errs[i] != nil {
+			return errs[i]
 		}
 		name := fmt.Sprintf("holdout-%d-%s.png", k+1, it.suffix)
-		r.addImage(name, it.caption, true, b)
+		r.addImage(name, it.caption, true, encoded[i])
 		rec.Images = append(rec.Images, name)
 	}
 	return nil

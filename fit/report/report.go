@@ -129,6 +129,7 @@ type SegmentRecord = materials.Segment
 // SettingsRecord are the settings of the renders and metrics.
 type SettingsRecord struct {
 	SPP        int     `json:"spp"` // 0: chosen per photo by the noise rule
+	MinSPP     int     `json:"min_spp"`
 	SPPRule    string  `json:"spp_rule"`
 	MaxSPP     int     `json:"max_spp"`
 	NoiseRatio float64 `json:"noise_ratio"`
@@ -283,16 +284,16 @@ func Build(ctx context.Context, capPath, matPath string, opts Options, prov Prov
 	if r.Materials.HistoryRecorded {
 		r.Materials.HistoryNote = "The convergence chart draws the loss after every pass of the fit as the materials file records it (loss_history per segment)."
 	}
-	r.Settings = SettingsRecord{SPP: opts.SPP, MaxSPP: opts.MaxSPP, NoiseRatio: opts.NoiseRatio,
+	r.Settings = SettingsRecord{SPP: opts.SPP, MinSPP: opts.MinSPP, MaxSPP: opts.MaxSPP, NoiseRatio: opts.NoiseRatio,
 		MaxDepth: opts.MaxDepth, Seed: opts.Seed,
 		Light:    fmt.Sprintf("path tracing, direct and indirect light, at most %d scattering events, the photo's lights only, no environment", opts.MaxDepth),
 		SeedRule: "holdout photo k (0-based, in capture order) is rendered with seed + k",
-		Pixels:   "pixels whose centre ray hits the mesh, inside the photo's mask, with no saturated channel",
+		Pixels:   "pixels whose centre ray hits the mesh, inside the photo's mask, with no saturated channel; only pixels within one pixel of a mesh hit are path-traced, the rest are left black",
 		Peak:     "linear white = 99.9th percentile of max(R,G,B) over the photo's compared pixels (PSNR peak, sRGB 1.0, CIELAB white)",
 	}
 	if opts.SPP == 0 {
-		r.Settings.SPPRule = fmt.Sprintf("automatic: the first pass of %d, %d, %d, ... samples per pixel (at most %d) at which s^2 / N <= (%.2g sigma_p)^2, s^2 the median per-sample variance of the render over the compared pixels away from edges, sigma_p the photo's noise over the same pixels (Immerkaer's operator, median form)",
-			MinSPP, 2*MinSPP, 4*MinSPP, opts.MaxSPP, opts.NoiseRatio)
+		r.Settings.SPPRule = fmt.Sprintf("automatic: N = ceil(s^2 / (%.2g sigma_p)^2) samples per pixel, within %d..%d, s^2 the median per-sample variance of the render over the compared pixels away from edges (measured by a pilot render of %d samples of up to %d of those pixels spread over the view), sigma_p the photo's noise over the same pixels (Immerkaer's operator, median form)",
+			opts.NoiseRatio, opts.MinSPP, opts.MaxSPP, PilotSPP, PilotPixels)
 	} else {
 		r.Settings.SPPRule = fmt.Sprintf("fixed: %d samples per pixel", opts.SPP)
 	}

@@ -100,18 +100,21 @@ func TestPhotoNoiseKnownSigma(t *testing.T) {
 func TestChooseSPP(t *testing.T) {
 	cases := []struct {
 		s2, sigma, ratio float64
-		max              int
+		min, max         int
 		spp, wanted      int
 	}{
-		{s2: 1e-4, sigma: 0.005, ratio: 0.5, max: 256, spp: 16, wanted: 16},    // 1e-4 / 6.25e-6 = 16
-		{s2: 1e-2, sigma: 0.005, ratio: 0.5, max: 256, spp: 256, wanted: 1600}, // capped
-		{s2: 1e-8, sigma: 0.005, ratio: 0.5, max: 256, spp: MinSPP, wanted: MinSPP},
-		{s2: 1e-4, sigma: 0, ratio: 0.5, max: 64, spp: 64, wanted: 65},
+		{s2: 1e-4, sigma: 0.005, ratio: 0.5, min: 16, max: 256, spp: 16, wanted: 16},    // 1e-4 / 6.25e-6 = 16
+		{s2: 1.1e-4, sigma: 0.005, ratio: 0.5, min: 4, max: 256, spp: 18, wanted: 18},   // 17.6, rounded up
+		{s2: 1e-2, sigma: 0.005, ratio: 0.5, min: 16, max: 256, spp: 256, wanted: 1600}, // capped
+		{s2: 1e-8, sigma: 0.005, ratio: 0.5, min: MinSPP, max: 256, spp: MinSPP, wanted: MinSPP},
+		{s2: 1e-8, sigma: 0.005, ratio: 0.5, min: 4, max: 256, spp: 4, wanted: 4},
+		{s2: 1e-4, sigma: 0, ratio: 0.5, min: 16, max: 64, spp: 64, wanted: 65},
+		{s2: 1e-8, sigma: 0.005, ratio: 0.5, min: 16, max: 8, spp: 8, wanted: 16}, // the cap wins
 	}
 	for _, c := range cases {
-		spp, wanted := chooseSPP(c.s2, c.sigma, c.ratio, c.max)
+		spp, wanted := chooseSPP(c.s2, c.sigma, c.ratio, c.min, c.max)
 		if spp != c.spp || wanted != c.wanted {
-			t.Errorf("chooseSPP(%g, %g, %g, %d) = %d, %d; want %d, %d", c.s2, c.sigma, c.ratio, c.max, spp, wanted, c.spp, c.wanted)
+			t.Errorf("chooseSPP(%g, %g, %g, %d, %d) = %d, %d; want %d, %d", c.s2, c.sigma, c.ratio, c.min, c.max, spp, wanted, c.spp, c.wanted)
 		}
 	}
 }
