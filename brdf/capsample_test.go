@@ -128,7 +128,7 @@ func capSampleCore(p *Params, wo Vec, u *[3]float64, weight *RGB) (wi Vec, pdf f
 	sS := muO + so
 	t2 := math.Pi * sS * pd
 	n := math.Pi*a*x*den + (b-a)*muI*sS*pd
-	rr := 1 / (n * b * t2)
+	rr := 1 / (n * (b * t2)) // b t2 is ready before n
 	pdf = n * n * rr
 	if !(pdf > 0) || math.IsInf(rr, 0) {
 		return wi, 0
