@@ -393,3 +393,47 @@ func TestNewSceneRejectsBadMeshes(t *testing.T) {
 		t.Error("nil mesh accepted")
 	}
 }
+
+// TestLevelCollapse: the fallback collapse (whole levels only, for trees too
+// deep for the greedy one's stack) answers queries as brute force does.
+func TestLevelCollapse(t *testing.T) {
+	m := triangleSoup(2000, 11)
+	greedy, err := NewScene(m, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	levelCollapseOnly = true
+	s, err := NewScene(m, 1)
+	levelCollapseOnly = false
+	if err != nil {
+		t.Fatal(err)
+	}
+	if reflect.DeepEqual(s.nodes, greedy.nodes) {
+		t.Fatal("the fallback collapse made the greedy tree")
+	}
+	if need := stackNeed(s.nodes, 0); need > wideStackSize {
+		t.Fatalf("stack need %d", need)
+	}
+	rays, tmax := testRays(m, 3000, 7)
+	for k, r := range rays {
+		var h Hit
+		got := s.Intersect(r, tmax[k], &h)
+		bt, _, want := bruteIntersect(s, r, tmax[k])
+		if got != want || (got && math.Abs(h.T-bt) > 1e-5*bt) {
+			t.Fatalf("ray %d: BVH %v %v, brute force %v %v", k, got, h.T, want, bt)
+		}
+		if occ := s.Occluded(r, tmax[k]); occ != want {
+			t.Fatalf("ray %d: Occluded %v, brute force %v", k, occ, want)
+		}
+	}
+}
+
+// TestNextUp32 checks the padding step against the standard library's
+// math.Nextafter32 towards +Inf.
+func TestNextUp32(t *testing.T) {
+	for _, x := range []float32{0, float32(math.Copysign(0, -1)), 1, -1, 1e-45, -1e-45, 3.4e38, -3.4e38, 0.1, -0.1, 1.17549435e-38, -1.17549435e-38} {
+		if got, want := nextUp32(x), math.Nextafter32(x, float32(math.Inf(1))); math.Float32bits(got) != math.Float32bits(want) && !(got == 0 && want == 0) {
+			t.Errorf("nextUp32(%g) = %g, want %g", x, got, want)
+		}
+	}
+}

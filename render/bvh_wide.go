@@ -39,11 +39,15 @@ const emptyChild = int32(-1)
 // It returns the nodes and the depth of the 4-wide tree.
 func collapseBVH(bin []bvhNode) ([]bvh4Node, int) {
 	out, depth := collapseWith(bin, true)
-	if stackNeed(out, 0) > wideStackSize {
+	if stackNeed(out, 0) > wideStackSize || levelCollapseOnly {
 		out, depth = collapseWith(bin, false)
 	}
 	return out, depth
 }
+
+// levelCollapseOnly makes collapseBVH take its fallback; tests set it to
+// check that path on meshes too small to need it.
+var levelCollapseOnly = false
 
 type wideSlot struct {
 	box box32
