@@ -253,6 +253,9 @@ type view struct {
 	seg    []int32 // capture segment per pixel; -1 miss, -2 unassigned triangle
 	status []uint8 // viewOK or the rejection reason
 	wo     []render.Vec3
+	// labelSeg maps the mesh's segment labels to capture segments (for
+	// the indirect rays' hits).
+	labelSeg []int
 }
 
 const (
@@ -269,7 +272,7 @@ func castView(ctx context.Context, scene *render.Scene, cam render.Pinhole, labe
 	if err != nil {
 		return nil, err
 	}
-	v := &view{cam: cam, gb: gb, seg: make([]int32, w*h), status: make([]uint8, w*h), wo: make([]render.Vec3, w*h)}
+	v := &view{cam: cam, gb: gb, seg: make([]int32, w*h), status: make([]uint8, w*h), wo: make([]render.Vec3, w*h), labelSeg: labelSeg}
 	for i := range v.seg {
 		v.seg[i] = -1
 		if !gb.Hit[i] {
@@ -525,10 +528,24 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 				o.obs = make([]Observations, nseg)
 				o.normal = make([]render.Vec3, nseg)
 				o.pos = make([]render.Vec3, nseg)
+				kbuf := make([]float32, 3*nseg)
 				for _, p := range picks[k*chunk : min((k+1)*chunk, len(picks))] {
 					if !observe(v, int(p.pix), img.Pix, lights, scene, offset, &o.obs[p.seg], pi) {
 						o.shadow++
 						continue
+					}
+					// A metal has no indirect term (ambientResponse).
+					if opts.IndirectSamples > 0 && set.Segments[p.seg].Kind != brdf.Metal {
+						q := int(p.pix)
+						ng := v.gb.Ng[q]
+						if ng.Dot(v.gb.Ns[q]) < 0 {
+							ng = ng.Mul(-1)
+						}
+						indirectFactors(v.gb.Pos[q], v.gb.Ns[q], ng, lights, scene, offset, v.labelSeg, nseg,
+							opts.IndirectSamples, opts.Seed, pi, q, kbuf)
+						ob := &o.obs[p.seg]
+						ob.IndSegs = nseg
+						ob.IndK = append(ob.IndK, kbuf...)
 					}
 					o.normal[p.seg] = o.normal[p.seg].Add(v.gb.Ns[p.pix])
 					o.pos[p.seg] = o.pos[p.seg].Add(v.gb.Pos[p.pix])

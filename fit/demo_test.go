@@ -76,6 +76,7 @@ func TestDemoCapture(t *testing.T) {
 				covered++
 			}
 			line += fmt.Sprintf(" %s %.3f±%.3f (truth %.3f)", names[k], got[k], sig[k], want[k])
+			t.Logf("row\t%s\t%s\ttruth %.4f\tfitted %.4f\tsigma %.4f\terror %+.4f\tcovered %v", sf.Name, names[k], want[k], got[k], sig[k], err, math.Abs(err) <= sig[k])
 			if sf.Name == "foot" {
 				continue
 			}
@@ -95,6 +96,7 @@ func TestDemoCapture(t *testing.T) {
 			}
 		}
 		t.Logf("%s: obs %d near-specular %d passes %d:%s", sf.Name, sf.Observations, sf.NearSpecular, sf.Passes, line)
+		t.Logf("%s: design effect %.1f, photo-clustered inflation %.2f, indirect part of sigma %.3f", sf.Name, sf.DesignEffect, sf.PhotoInflation, sf.IndirectSigma[:sf.Kind.NumParams()])
 	}
 	t.Logf("the reported sigma covers the true error in %d of %d parameters (goal: two thirds)", covered, total)
 }

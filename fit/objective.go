@@ -214,6 +214,16 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 	var hl [brdf.MaxParams * brdf.MaxParams]float64 // lower triangle
 	wantHess := hs != nil
 	var bg brdf.Grad
+	var dR [3][brdf.MaxParams]float64
+	var resp [3]float64
+	ambient := len(ob.AR) == ob.Len() && hi > lo
+	if ambient {
+		if wantGrad {
+			resp = ambientResponse(p, &dR)
+		} else {
+			resp = ambientResponse(p, nil)
+		}
+	}
 	loss := 0.0
 	for i := lo; i < hi; i++ {
 		wo := brdf.Vec{X: float64(ob.WoX[i]), Y: float64(ob.WoY[i]), Z: float64(ob.WoZ[i])}
@@ -235,6 +245,18 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 				f := brdf.Eval(p, wo, wi)
 				for ch := 0; ch < 3; ch++ {
 					m[ch] += f[ch] * ir[ch]
+				}
+			}
+		}
+		if ambient {
+			// The reflected indirect light (indirect.go), fixed per stage.
+			a := [3]float64{float64(ob.AR[i]), float64(ob.AG[i]), float64(ob.AB[i])}
+			for ch := 0; ch < 3; ch++ {
+				m[ch] += resp[ch] * a[ch]
+				if wantGrad {
+					for k := 0; k < np; k++ {
+						dm[ch][k] += dR[ch][k] * a[ch]
+					}
 				}
 			}
 		}

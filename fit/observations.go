@@ -33,6 +33,21 @@ type Observations struct {
 	// point light, irradiance * cos(theta_i) for a directional one. The
 	// forward model is then radiance = sum over samples of BRDF * E.
 	ER, EG, EB []float32
+
+	// Indirect light (optional).
+
+	// IndK, when not empty, holds for every observation and every segment
+	// s of the set the one-bounce indirect irradiance factor K[s][c]
+	// (stride 3*IndSegs): light of the photo's lights reflected once by
+	// segment s towards the observed point, per unit albedo of s, so that
+	// the indirect irradiance is sum over s of a[s][c] * K[s][c] with a the
+	// segments' albedos (see indirect.go).
+	IndK    []float32
+	IndSegs int
+	// AR, AG, AB, when not empty, are the indirect irradiance at each
+	// observation estimated from IndK and the current albedos; the forward
+	// model adds the reflection of it (ambientResponse).
+	AR, AG, AB []float32
 }
 
 // Len is the number of observations.
@@ -43,7 +58,7 @@ func (o *Observations) NumLightSamples() int { return len(o.WiX) }
 
 // Bytes is the memory the arrays hold (their length, not capacity).
 func (o *Observations) Bytes() int {
-	return 4 * (9*o.Len() + 6*o.NumLightSamples())
+	return 4 * (9*o.Len() + 6*o.NumLightSamples() + len(o.IndK) + len(o.AR) + len(o.AG) + len(o.AB))
 }
 
 // AddLight appends a light sample to the observation being built; Add closes
@@ -91,6 +106,10 @@ func (o *Observations) Append(other *Observations) {
 	o.ER = append(o.ER, other.ER...)
 	o.EG = append(o.EG, other.EG...)
 	o.EB = append(o.EB, other.EB...)
+	if other.IndSegs > 0 {
+		o.IndSegs = other.IndSegs
+		o.IndK = append(o.IndK, other.IndK...)
+	}
 }
 
 // lights returns the range of light samples of observation i.
@@ -104,7 +123,7 @@ func (o *Observations) lights(i int) (start, end int) {
 // ScaleIrradiance multiplies every light sample's irradiance by s: this is
 // how the radiometric scale solved from a calibration target is applied.
 func (o *Observations) ScaleIrradiance(s float64) {
-	for _, a := range [][]float32{o.ER, o.EG, o.EB} {
+	for _, a := range [][]float32{o.ER, o.EG, o.EB, o.IndK, o.AR, o.AG, o.AB} {
 		for i := range a {
 			a[i] = float32(float64(a[i]) * s)
 		}

@@ -84,6 +84,15 @@ type Options struct {
 	// diffuse is not flagged for being near zero) gets a warning. Default 0.25.
 	MaxRelativeSigma float64
 
+	// IndirectSamples is the number of cosine-weighted rays per observation
+	// that estimate the light reflected onto it by the rest of the mesh
+	// (indirect.go). Default 8; a negative value leaves indirect light out
+	// (the direct-lighting model alone).
+	IndirectSamples int
+	// IndirectStages is the number of refits with the indirect term
+	// re-estimated from the previous fit's albedos. Default 2.
+	IndirectStages int
+
 	// Locks holds parameters of named segments at fixed values (the
 	// workbench's "hold at this value", or the materials file's "locked"
 	// list): the key is the segment name (FitSegment uses the key ""). A
@@ -109,6 +118,12 @@ func (o Options) withDefaults() Options {
 	}
 	if o.MaxPasses <= 0 {
 		o.MaxPasses = 200
+	}
+	if o.IndirectSamples == 0 {
+		o.IndirectSamples = 8
+	}
+	if o.IndirectStages <= 0 {
+		o.IndirectStages = 2
 	}
 	if o.StartPasses <= 0 {
 		o.StartPasses = 5

@@ -35,7 +35,15 @@ type Result struct {
 	Seed               uint64
 	// Warnings concern the whole capture (calibration, photos).
 	Warnings []string
+	// Indirect describes the indirect-light term, empty when it was left
+	// out (indirect.go).
+	Indirect string
 }
+
+// indirectWarnShare is the share of indirect light in a segment's modelled
+// radiance above which the fit warns that the result leans on the
+// one-bounce estimate.
+const indirectWarnShare = 0.15
 
 // PhotoResidual is how well the fitted materials explain one photo.
 type PhotoResidual struct {
@@ -105,6 +113,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 		return nil, err
 	}
 	fits := make([]*SegmentFit, n)
+	loose := false // set while a stage only feeds the indirect estimate
 	fitOne := func(si int, warm *brdf.Params) error {
 		if err := ctx.Err(); err != nil {
 			return err
@@ -118,6 +127,9 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 			eps = 1e-4
 		}
 		o := opts
+		if loose {
+			o.RelTol = math.Max(o.RelTol, looseRelTol)
+		}
 		if opts.Progress != nil {
 			base := observationShare + (1-observationShare)*float64(si)/float64(n)
 			o.Progress = func(p Progress) {
@@ -129,78 +141,112 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 		if err != nil {
 			return err
 		}
+		if old := fits[si]; old != nil {
+			// A refit continues the segment's passes and loss history.
+			sf.Passes += old.Passes
+			sf.LossHistory = append(old.LossHistory, sf.LossHistory...)
+		}
 		fits[si] = sf
 		return nil
 	}
-	// Calibration targets first. The linear solve above treats a target as
-	// Lambertian; a real card has a faint specular lobe that biases it by a
-	// few percent. So the targets are fitted with the full model, the scale
-	// is corrected so that their fitted diffuse colour equals the reference
-	// albedo (photos fix only the product of scale and reflectance), and
-	// they are fitted again at the corrected scale.
-	if res.Scale.Solved {
+	// stage fits every segment once, from warm[si] when not nil.
+	stage := func(warm []*brdf.Params) error {
+		// Calibration targets first. The linear solve above treats a target as
+		// Lambertian; a real card has a faint specular lobe that biases it by a
+		// few percent. So the targets are fitted with the full model, the scale
+		// is corrected so that their fitted diffuse colour equals the reference
+		// albedo (photos fix only the product of scale and reflectance), and
+		// they are fitted again at the corrected scale.
+		if res.Scale.Solved {
+			for si, so := range set.Segments {
+				if so.ReferenceAlbedo != nil {
+					if err := fitOne(si, warm[si]); err != nil {
+						return err
+					}
+				}
+			}
+			// Photos fix s*d and s*F0 together, but a dielectric's diffuse
+			// weight depends on F0 too, so one correction is not exact: repeat
+			// until the correction is below 1e-4 (two or three rounds).
+			for round := 0; round < 5; round++ {
+				var num, den float64
+				for si, so := range set.Segments {
+					if so.ReferenceAlbedo == nil || !fits[si].Fitted {
+						continue
+					}
+					for c := 0; c < 3; c++ {
+						num += fits[si].Params.Diffuse[c] * so.ReferenceAlbedo[c]
+						den += so.ReferenceAlbedo[c] * so.ReferenceAlbedo[c]
+					}
+				}
+				if den <= 0 || num <= 0 {
+					break
+				}
+				k := num / den
+				if math.Abs(k-1) < 1e-4 {
+					break
+				}
+				res.Scale.Value *= k
+				res.Scale.Sigma *= k
+				for _, so := range set.Segments {
+					so.Obs.ScaleIrradiance(k)
+				}
+				for si, so := range set.Segments {
+					if so.ReferenceAlbedo != nil && fits[si].Fitted {
+						// Warm start: the reflectances scale by 1/k.
+						warm := fits[si].Params
+						var v [brdf.MaxParams]float64
+						vec := warm.Vector(v[:0])
+						for j := range vec[:len(vec)-1] {
+							vec[j] /= k
+						}
+						brdf.ClampVector(vec)
+						_ = warm.FromVector(vec)
+						if err := fitOne(si, &warm); err != nil {
+							return err
+						}
+					}
+				}
+			}
+			res.Scale.Note = fmt.Sprintf("solved from %s (%d observations): photo radiance = %.5g x capture light units",
+				joinList(res.Scale.Targets), res.Scale.Observations, res.Scale.Value)
+		}
 		for si, so := range set.Segments {
-			if so.ReferenceAlbedo != nil {
-				if err := fitOne(si, nil); err != nil {
-					return nil, err
+			if !res.Scale.Solved || so.ReferenceAlbedo == nil {
+				if err := fitOne(si, warm[si]); err != nil {
+					return err
 				}
 			}
 		}
-		// Photos fix s*d and s*F0 together, but a dielectric's diffuse
-		// weight depends on F0 too, so one correction is not exact: repeat
-		// until the correction is below 1e-4 (two or three rounds).
-		for round := 0; round < 5; round++ {
-			var num, den float64
-			for si, so := range set.Segments {
-				if so.ReferenceAlbedo == nil || !fits[si].Fitted {
-					continue
-				}
-				for c := 0; c < 3; c++ {
-					num += fits[si].Params.Diffuse[c] * so.ReferenceAlbedo[c]
-					den += so.ReferenceAlbedo[c] * so.ReferenceAlbedo[c]
-				}
-			}
-			if den <= 0 || num <= 0 {
-				break
-			}
-			k := num / den
-			if math.Abs(k-1) < 1e-4 {
-				break
-			}
-			res.Scale.Value *= k
-			res.Scale.Sigma *= k
-			for _, so := range set.Segments {
-				so.Obs.ScaleIrradiance(k)
-			}
-			for si, so := range set.Segments {
-				if so.ReferenceAlbedo != nil && fits[si].Fitted {
-					passes, hist := fits[si].Passes, fits[si].LossHistory
-					// Warm start: the reflectances scale by 1/k.
-					warm := fits[si].Params
-					var v [brdf.MaxParams]float64
-					vec := warm.Vector(v[:0])
-					for j := range vec[:len(vec)-1] {
-						vec[j] /= k
-					}
-					brdf.ClampVector(vec)
-					_ = warm.FromVector(vec)
-					if err := fitOne(si, &warm); err != nil {
-						return nil, err
-					}
-					fits[si].Passes += passes
-					fits[si].LossHistory = append(hist, fits[si].LossHistory...)
-				}
-			}
-		}
-		res.Scale.Note = fmt.Sprintf("solved from %s (%d observations): photo radiance = %.5g x capture light units",
-			joinList(res.Scale.Targets), res.Scale.Observations, res.Scale.Value)
+		return nil
 	}
-	for si := range set.Segments {
-		if fits[si] == nil {
-			if err := fitOne(si, nil); err != nil {
+	indirect := opts.IndirectSamples > 0 && set.hasIndirect()
+	loose = indirect
+	if err := stage(make([]*brdf.Params, n)); err != nil {
+		return nil, err
+	}
+	// Indirect light: re-estimated from the fitted albedos and every
+	// segment refitted with it, warm-started (indirect.go).
+	var share []float64
+	if indirect {
+		for round := 0; round < opts.IndirectStages; round++ {
+			loose = round < opts.IndirectStages-1
+			params := make([]brdf.Params, n)
+			warm := make([]*brdf.Params, n)
+			for si := range fits {
+				params[si] = fits[si].Params
+				if fits[si].Fitted {
+					warm[si] = &params[si]
+				}
+			}
+			share = set.estimateAmbient(params)
+			if err := stage(warm); err != nil {
 				return nil, err
 			}
 		}
+		res.Indirect = fmt.Sprintf("one-bounce indirect light from the mesh, %d rays per observation, %d refits", opts.IndirectSamples, opts.IndirectStages)
+		res.Loss += "; model: direct light plus one-bounce indirect light off the mesh"
+
 	}
 	for si, so := range set.Segments {
 		sf := fits[si]
@@ -215,6 +261,11 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 					"calibration target fits a diffuse colour %.3f %.3f %.3f, %.0f%% off its reference albedo: its colour differs from the reference (check the reference values, and that it is lit evenly)",
 					sf.Params.Diffuse[0], sf.Params.Diffuse[1], sf.Params.Diffuse[2], 100*worst))
 			}
+		}
+		if share != nil && sf.Fitted && share[si] > indirectWarnShare {
+			sf.Warnings = append(sf.Warnings, fmt.Sprintf(
+				"about %.0f%% of the light this segment reflects reaches it indirectly, from the rest of the object and the card; the fit models one bounce off matte neighbours, so its colours depend on that estimate: for a firmer result photograph it on a dark matte base or with lights that reach it directly",
+				100*share[si]))
 		}
 		res.Segments = append(res.Segments, sf)
 		res.Passes += sf.Passes
@@ -300,8 +351,21 @@ func median(x []float64) float64 {
 	return (s[len(s)/2-1] + s[len(s)/2]) / 2
 }
 
-// modelAt is the forward model for observation i.
+// modelAt is the forward model for observation i: direct light plus the
+// reflected indirect light when the observations carry it.
 func modelAt(ob *Observations, i int, p *brdf.Params) [3]float64 {
+	m := directAt(ob, i, p)
+	if len(ob.AR) == ob.Len() && ob.Len() > 0 {
+		r := ambientResponse(p, nil)
+		m[0] += r[0] * float64(ob.AR[i])
+		m[1] += r[1] * float64(ob.AG[i])
+		m[2] += r[2] * float64(ob.AB[i])
+	}
+	return m
+}
+
+// directAt is the direct-lighting part of the forward model.
+func directAt(ob *Observations, i int, p *brdf.Params) [3]float64 {
 	wo := brdf.Vec{X: float64(ob.WoX[i]), Y: float64(ob.WoY[i]), Z: float64(ob.WoZ[i])}
 	s, e := ob.lights(i)
 	var m [3]float64

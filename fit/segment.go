@@ -30,6 +30,14 @@ type SegmentFit struct {
 	// uncertainty); above 1 the residuals are correlated within photos
 	// (calibration or model error) and Sigma was widened accordingly.
 	PhotoInflation float64
+	// DesignEffect is the largest variance inflation of the Gauss-Newton
+	// covariance, over the parameters, for the correlation of the
+	// residuals within a photo (1: independent pixels; see uncertainty).
+	DesignEffect float64
+	// IndirectSigma is the part of each parameter's sigma (vector order) due
+	// to the uncertainty of the indirect-light estimate, before it is added
+	// in quadrature.
+	IndirectSigma [brdf.MaxParams]float64
 	// Observations is the number of observations fitted; NearSpecular how
 	// many of them have a half vector within Options.NearSpecularDegrees of
 	// the normal for at least one light.
@@ -251,6 +259,11 @@ func initialGuesses(obs *Observations, kind brdf.Kind, hold *held, opts Options)
 				a[1] += float64(obs.EG[l]) / math.Pi
 				a[2] += float64(obs.EB[l]) / math.Pi
 			}
+			if len(obs.AR) == n {
+				a[0] += float64(obs.AR[i]) / math.Pi
+				a[1] += float64(obs.AG[i]) / math.Pi
+				a[2] += float64(obs.AB[i]) / math.Pi
+			}
 			for c := 0; c < 3; c++ {
 				num[c] += o[c] * a[c]
 				den[c] += a[c] * a[c]
@@ -288,6 +301,14 @@ func initialGuesses(obs *Observations, kind brdf.Kind, hold *held, opts Options)
 				for c := 0; c < 3; c++ {
 					b[c] += f0[c] * ir[c]
 					a[c] += (f1[c] - f0[c]) * ir[c]
+				}
+			}
+			if len(obs.AR) == n {
+				r0, r1 := ambientResponse(&p0, nil), ambientResponse(&p1, nil)
+				amb := [3]float64{float64(obs.AR[i]), float64(obs.AG[i]), float64(obs.AB[i])}
+				for c := 0; c < 3; c++ {
+					b[c] += r0[c] * amb[c]
+					a[c] += (r1[c] - r0[c]) * amb[c]
 				}
 			}
 			o := [3]float64{float64(obs.R[i]), float64(obs.G[i]), float64(obs.B[i])}
@@ -363,6 +384,21 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 	sumW2, sumR2, sumLin2 := 0.0, 0.0, 0.0
 	nres := 0
 	scores := map[int32]*[brdf.MaxParams]float64{}
+	// Per photo: count, sum and sum of squares of the log residuals, for
+	// the intra-photo correlation.
+	// and of every parameter's weighted Jacobian entry (the regression's
+	// covariates), for the design effect of each parameter.
+	type group struct {
+		n, sum, sum2 float64
+		xs, xs2      [brdf.MaxParams]float64
+	}
+	groups := map[int32]*group{}
+	// u is the sensitivity of the weighted normal equations to a relative
+	// change of the indirect term (see below).
+	var u [brdf.MaxParams]float64
+	ambient := len(obs.AR) == obs.Len() && obs.Len() > 0
+	var dR [3][brdf.MaxParams]float64
+	resp := ambientResponse(p, &dR)
 	for i := 0; i < obs.Len(); i++ {
 		wo := brdf.Vec{X: float64(obs.WoX[i]), Y: float64(obs.WoY[i]), Z: float64(obs.WoZ[i])}
 		s, e := obs.lights(i)
@@ -379,6 +415,22 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 				}
 			}
 		}
+		var mAmb [3]float64
+		if ambient {
+			a := [3]float64{float64(obs.AR[i]), float64(obs.AG[i]), float64(obs.AB[i])}
+			for c := 0; c < 3; c++ {
+				mAmb[c] = resp[c] * a[c]
+				m[c] += mAmb[c]
+				for k := 0; k < np; k++ {
+					dm[c][k] += dR[c][k] * a[c]
+				}
+			}
+		}
+		gr := groups[obs.Photo[i]]
+		if gr == nil {
+			gr = &group{}
+			groups[obs.Photo[i]] = gr
+		}
 		g := scores[obs.Photo[i]]
 		if g == nil {
 			g = new([brdf.MaxParams]float64)
@@ -392,11 +444,22 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 			w := 1 / math.Sqrt(1+q*q)
 			sumW2 += w * r * r
 			sumR2 += r * r
+			gr.n++
+			gr.sum += r
+			gr.sum2 += r * r
+			sw := math.Sqrt(w)
+			for a := 0; a < np; a++ {
+				x := sw * dm[c][a] / me
+				gr.xs[a] += x
+				gr.xs2[a] += x * x
+			}
 			sumLin2 += (o[c] - m[c]) * (o[c] - m[c])
 			nres++
+			da := mAmb[c] / me // d r / d alpha for the indirect term scaled by (1 + alpha)
 			for a := 0; a < np; a++ {
 				ja := dm[c][a] / me
 				g[a] += w * r * ja
+				u[a] += w * ja * da
 				for b := 0; b <= a; b++ {
 					h[a*np+b] += w * ja * dm[c][b] / me
 				}
@@ -444,9 +507,46 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 		res.Sigma = sigmaParams(res.Kind, sigma)
 		return
 	}
+	// Pixels of one photo are not independent: a calibration error of the
+	// photo's light or exposure, or a model error under that light, is
+	// shared by all of them. The intra-photo correlation rho of the
+	// residuals (one-way analysis of variance, the intraclass correlation)
+	// gives the design effect deff = 1 + (m - 1) rho, m the mean number of
+	// residuals per photo (Kish, "Survey Sampling", 1965, section 5.4): the
+	// variance of a mean of correlated observations is deff times the
+	// independent one, so n / deff is the effective sample size.
+	//
+	// For a regression coefficient the inflation is smaller when its
+	// covariate varies within the photos: deff_k = 1 + (m - 1) rho_e rho_k,
+	// rho_e the residuals' and rho_k the covariate's (the weighted Jacobian
+	// column's) intraclass correlation (Scott and Holt, "The effect of
+	// two-stage sampling on ordinary least squares methods", JASA 77, 1982).
+	keys := make([]int, 0, len(groups))
+	for k := range groups {
+		keys = append(keys, int(k))
+	}
+	sort.Ints(keys)
+	ge := make([]groupStat, 0, len(keys))
+	for _, k := range keys {
+		g := groups[int32(k)]
+		ge = append(ge, groupStat{g.n, g.sum, g.sum2})
+	}
+	rhoE, mbar := intraclass(ge)
+	res.DesignEffect = 1
+	deff := make([]float64, np)
+	for a := 0; a < np; a++ {
+		gx := make([]groupStat, 0, len(keys))
+		for _, k := range keys {
+			g := groups[int32(k)]
+			gx = append(gx, groupStat{g.n, g.xs[a], g.xs2[a]})
+		}
+		rhoX, _ := intraclass(gx)
+		deff[a] = 1 + math.Max(mbar-1, 0)*rhoE*rhoX
+		res.DesignEffect = math.Max(res.DesignEffect, deff[a])
+	}
 	for a := 0; a < np; a++ {
 		for b := 0; b < np; b++ {
-			res.Covariance[a*np+b] = s2 * inv.At(a, b)
+			res.Covariance[a*np+b] = s2 * math.Sqrt(deff[a]*deff[b]) * inv.At(a, b)
 		}
 		sigma[a] = math.Sqrt(math.Max(res.Covariance[a*np+a], 0))
 	}
@@ -477,6 +577,23 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 				res.PhotoInflation = math.Max(res.PhotoInflation, sc/sigma[a])
 			}
 			sigma[a] = math.Max(sigma[a], sc)
+		}
+	}
+	// The indirect term is an estimate (indirect.go: one bounce, matte
+	// neighbours, a few rays per observation). A relative error alpha of it
+	// moves the optimum by dp = -H^-1 u alpha to first order (the implicit
+	// function theorem on the weighted normal equations, u = sum w J dr/dalpha);
+	// that systematic part is added in quadrature with IndirectRelError as
+	// alpha, the documented uncertainty of the estimate.
+	if ambient {
+		for a := 0; a < np; a++ {
+			dp := 0.0
+			for b := 0; b < np; b++ {
+				dp += inv.At(a, b) * u[b]
+			}
+			sys := IndirectRelError * math.Abs(dp)
+			res.IndirectSigma[a] = sys
+			sigma[a] = math.Hypot(sigma[a], sys)
 		}
 	}
 	if hold.any() {
@@ -570,4 +687,62 @@ func joinList(items []string) string {
 		out += s
 	}
 	return out
+}
+
+// IndirectRelError is the relative uncertainty assigned to the estimated
+// indirect light: the one-bounce estimate leaves out later bounces (their
+// share is about the neighbours' albedo, 0.2 to 0.5 of the first bounce on
+// typical objects) and treats every neighbour as matte, so it is taken to
+// be good to about a third (a judgement, documented here, not a measured
+// figure).
+const IndirectRelError = 0.33
+
+type groupStat struct{ n, sum, sum2 float64 }
+
+// designEffect returns 1 + (m - 1) rho for values in groups (the design
+// effect of their mean; Kish, "Survey Sampling", 1965), m the mean group
+// size and rho their intraclass correlation (intraclass). Fewer than two
+// groups give 1.
+func designEffect(gs []groupStat) float64 {
+	rho, m := intraclass(gs)
+	return 1 + math.Max(m-1, 0)*rho
+}
+
+// intraclass returns the intraclass correlation of values in groups from
+// the one-way analysis of variance (rho = (MSB - MSW) / (MSB + (m0 - 1)
+// MSW), m0 the adjusted mean group size; Snedecor and Cochran,
+// "Statistical Methods", 8th ed., 1989, section 13.11), clamped to [0, 1],
+// and the mean group size. Fewer than two groups give 0.
+func intraclass(gs []groupStat) (rho, mean float64) {
+	k := len(gs)
+	if k < 2 {
+		return 0, 0
+	}
+	var N, S, S2, sumN2 float64
+	for _, g := range gs {
+		N += g.n
+		S += g.sum
+		S2 += g.sum2
+		sumN2 += g.n * g.n
+	}
+	if N <= float64(k) {
+		return 0, N / float64(k)
+	}
+	mu := S / N
+	ssb := 0.0
+	for _, g := range gs {
+		if g.n > 0 {
+			d := g.sum/g.n - mu
+			ssb += g.n * d * d
+		}
+	}
+	ssw := S2 - S*S/N - ssb
+	msb := ssb / float64(k-1)
+	msw := math.Max(ssw, 0) / (N - float64(k))
+	m0 := (N - sumN2/N) / float64(k-1)
+	den := msb + (m0-1)*msw
+	if !(den > 0) {
+		return 0, N / float64(k)
+	}
+	return math.Min(math.Max((msb-msw)/den, 0), 1), N / float64(k)
 }

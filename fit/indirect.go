@@ -1,0 +1,248 @@
+package fit
+
+import (
+	"math"
+	"math/rand/v2"
+
+	"patina/assets/capture"
+	"patina/brdf"
+	"patina/render"
+)
+
+// Indirect light.
+//
+// The photos record all the light a surface reflects, including light that
+// first bounced off the object itself or the calibration card under it; a
+// direct-lighting model attributes that extra light to the surface and
+// makes a concave or low-lying segment too bright (the demo's foot ring
+// stands on its grey card and came out 40% too bright). The fit therefore
+// adds a one-bounce indirect term, estimated once while the observations are
+// built and combined with the fitted albedos between stages:
+//
+//  1. For every observation, IndirectSamples cosine-weighted rays leave the
+//     surface point x; where a ray hits the mesh at y on segment s, the
+//     direct irradiance E(y) of the photo's lights is computed (with shadow
+//     rays). Treating y as a Lambertian reflector of albedo a_s, the
+//     radiance it sends to x is a_s E(y) / pi, and the cosine-weighted
+//     Monte Carlo estimate of the indirect irradiance at x is
+//     E_ind = sum over s of a_s K_s, K_s = (1/N) sum over the rays that
+//     hit s of E(y) (Pharr, Jakob and Humphreys, "Physically Based
+//     Rendering", 3rd ed., 2016, sections 13.6.3 and 14.5). K depends only
+//     on geometry and lights, so it is computed once (Observations.IndK).
+//  2. After a fit, the albedos a_s = d (1 - F0) + F0 of the fitted segments
+//     (the hemispherical reflectance of the diffuse and specular lobes,
+//     each taken as if it reflected all it receives: common practice for a
+//     one-bounce estimate) give E_ind per observation (Observations.AR,
+//     AG, AB), and the forward model adds its reflection by the observed
+//     surface, (d (1 - F0) + F0) E_ind / pi (the indirect light arrives
+//     from all over the hemisphere, where a matte lobe's response does not
+//     depend on its direction; a metal's glossy lobe's does, see
+//     ambientResponse).
+//  3. Every segment is fitted again, warm-started, with that term fixed;
+//     Options.IndirectStages rounds of 2 and 3 follow the first fit. The
+//     fits that only feed the next estimate stop at a relative loss change
+//     of looseRelTol; the last one at Options.RelTol.
+//
+// What is left out: a metal's reflection of indirect light, second and later bounces (a few percent of the first
+// for albedos below 0.5), the non-Lambertian shape of the neighbours'
+// reflection (a glossy neighbour's highlight is spread over the
+// hemisphere), and surfaces outside the mesh (a table, walls).
+
+// albedoOf is a_c = d_c (1 - F0_c) + F0_c of p's effective colours.
+func albedoOf(p *brdf.Params) [3]float64 {
+	var v [brdf.MaxParams]float64
+	p.Vector(v[:0])
+	d, s := effectiveColours(p.Kind, v[:])
+	var a [3]float64
+	for c := 0; c < 3; c++ {
+		a[c] = d[c]*(1-s[c]) + s[c]
+	}
+	return a
+}
+
+// effectiveColours returns the diffuse and F0 colours of a parameter
+// vector of kind.
+func effectiveColours(kind brdf.Kind, v []float64) (d, s [3]float64) {
+	switch kind {
+	case brdf.Dielectric:
+		return [3]float64{v[0], v[1], v[2]}, [3]float64{v[3], v[3], v[3]}
+	case brdf.Metal:
+		return [3]float64{}, [3]float64{v[0], v[1], v[2]}
+	}
+	return [3]float64{v[0], v[1], v[2]}, [3]float64{v[3], v[4], v[5]}
+}
+
+// ambientResponse returns R_c = (d_c (1 - F0_c) + F0_c) / pi, the radiance
+// the observed surface reflects per unit of indirect irradiance as if both
+// lobes were matte, and its derivatives with respect to p's vector:
+// dR[c][k]. A metal gets R = 0, no indirect term: its glossy lobe reflects
+// only what lies near the mirror direction, which a hemisphere average
+// misjudges badly (on the demo's gilding, treating the lobe as matte took
+// 45% of its F0 away). A dielectric's specular lobe reflects a few percent
+// of the indirect light, where the same approximation costs little.
+func ambientResponse(p *brdf.Params, dR *[3][brdf.MaxParams]float64) [3]float64 {
+	var r [3]float64
+	if p.Kind == brdf.Metal {
+		if dR != nil {
+			*dR = [3][brdf.MaxParams]float64{}
+		}
+		return r
+	}
+	var v [brdf.MaxParams]float64
+	p.Vector(v[:0])
+	d, s := effectiveColours(p.Kind, v[:])
+	for c := 0; c < 3; c++ {
+		r[c] = (d[c]*(1-s[c]) + s[c]) / math.Pi
+	}
+	if dR == nil {
+		return r
+	}
+	*dR = [3][brdf.MaxParams]float64{}
+	for c := 0; c < 3; c++ {
+		dd := (1 - s[c]) / math.Pi // dR_c/dd_c
+		ds := (1 - d[c]) / math.Pi // dR_c/dF0_c
+		if p.Kind == brdf.Dielectric {
+			dR[c][c] = dd
+			dR[c][3] = ds
+		} else {
+			dR[c][c] = dd
+			dR[c][3+c] = ds
+		}
+	}
+	return r
+}
+
+// hasIndirect reports whether the observations carry indirect factors.
+func (set *ObservationSet) hasIndirect() bool {
+	for _, so := range set.Segments {
+		if so.Obs.IndSegs > 0 && len(so.Obs.IndK) > 0 {
+			return true
+		}
+	}
+	return false
+}
+
+// estimateAmbient sets every observation's indirect irradiance from its
+// factors and the segments' current parameters (params[s], indexed like
+// set.Segments). It returns, per segment, the mean share of the indirect
+// term in the model's radiance, for the warnings.
+func (set *ObservationSet) estimateAmbient(params []brdf.Params) []float64 {
+	ns := len(set.Segments)
+	alb := make([][3]float64, ns)
+	for s := range alb {
+		alb[s] = albedoOf(&params[s])
+	}
+	share := make([]float64, ns)
+	for si, so := range set.Segments {
+		ob := &so.Obs
+		n := ob.Len()
+		if ob.IndSegs != ns || len(ob.IndK) != 3*ns*n {
+			ob.AR, ob.AG, ob.AB = nil, nil, nil
+			continue
+		}
+		if len(ob.AR) != n {
+			ob.AR, ob.AG, ob.AB = make([]float32, n), make([]float32, n), make([]float32, n)
+		}
+		resp := ambientResponse(&params[si], nil)
+		sum := 0.0
+		for i := 0; i < n; i++ {
+			var e [3]float64
+			k := ob.IndK[3*ns*i : 3*ns*(i+1)]
+			for s := 0; s < ns; s++ {
+				for c := 0; c < 3; c++ {
+					e[c] += alb[s][c] * float64(k[3*s+c])
+				}
+			}
+			ob.AR[i], ob.AG[i], ob.AB[i] = float32(e[0]), float32(e[1]), float32(e[2])
+			direct := directAt(ob, i, &params[si])
+			ind := resp[0]*e[0] + resp[1]*e[1] + resp[2]*e[2]
+			if tot := direct[0] + direct[1] + direct[2] + ind; tot > 0 {
+				sum += ind / tot
+			}
+		}
+		if n > 0 {
+			share[si] = sum / float64(n)
+		}
+	}
+	return share
+}
+
+// indirectFactors casts the cosine-weighted rays of one observation at
+// world point p (shading normal ns, geometric normal ng, both facing the
+// camera) and writes K[s][c] into k (3 per segment). labelSeg maps the
+// mesh's segment labels to the set's segments. The sample is a function of
+// (seed, photo, pixel) only.
+func indirectFactors(p, ns, ng render.Vec3, lights []photoLight, scene *render.Scene, offset float64, labelSeg []int, nseg, samples int, seed uint64, photo, pixel int, k []float32) {
+	for i := range k {
+		k[i] = 0
+	}
+	var src rand.PCG
+	src.Seed(seed^0x9e3779b97f4a7c15, uint64(photo)<<32|uint64(uint32(pixel)))
+	rng := rand.New(&src)
+	frame := render.NewFrame(ns)
+	origin := p.AddScaled(ng, offset)
+	inv := 1 / float64(samples)
+	var h render.Hit
+	for j := 0; j < samples; j++ {
+		// Stratified in the first coordinate: one stratum per sample.
+		u1 := (float64(j) + rng.Float64()) * inv
+		u2 := rng.Float64()
+		r := math.Sqrt(u1)
+		phi := 2 * math.Pi * u2
+		local := brdf.Vec{X: r * math.Cos(phi), Y: r * math.Sin(phi), Z: math.Sqrt(math.Max(0, 1-u1))}
+		d := frame.ToWorld(local)
+		if d.Dot(ng) <= 0 {
+			continue
+		}
+		if !scene.Intersect(render.Ray{O: origin, D: d}, math.Inf(1), &h) {
+			continue
+		}
+		// The hit must face x: a back face means the ray left through a
+		// hole or an open edge of the mesh.
+		hn, hs := h.Ng, h.Ns
+		if hn.Dot(d) >= 0 {
+			continue
+		}
+		if hs.Dot(d) > 0 {
+			hs = hn
+		}
+		s := 0
+		if len(labelSeg) > 0 {
+			l := int(h.Segment)
+			if l < 0 || l >= len(labelSeg) || labelSeg[l] < 0 {
+				continue
+			}
+			s = labelSeg[l]
+		}
+		if s >= nseg {
+			continue
+		}
+		yo := h.P.AddScaled(hn, offset)
+		for li := range lights {
+			L := &lights[li]
+			wi, tmax := L.towards(h.P, offset)
+			cos := hs.Dot(wi)
+			if cos <= 0 || hn.Dot(wi) <= 0 {
+				continue
+			}
+			if scene.Occluded(render.Ray{O: yo, D: wi}, tmax) {
+				continue
+			}
+			e := L.power
+			if L.kind != capture.LightDirectional {
+				r2 := L.pos.Sub(h.P).Len2()
+				for c := range e {
+					e[c] /= r2
+				}
+			}
+			for c := 0; c < 3; c++ {
+				k[3*s+c] += float32(e[c] * cos * inv)
+			}
+		}
+	}
+}
+
+// looseRelTol is the stop rule of the fits whose albedos only feed the
+// next indirect estimate: the estimate is good to tens of percent, so a
+// loss converged to 1e-4 is plenty.
+const looseRelTol = 1e-4
