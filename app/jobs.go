@@ -74,6 +74,13 @@ type jobs struct {
 	parent  context.Context
 	running map[string]*Job
 	all     sync.WaitGroup
+	// finishMu lets one job's finish run at a time. With fyne.Do a finish
+	// only queues its result for the UI goroutine; with a Poster that runs
+	// its argument at once (NewSession with nil, in tests) the results of
+	// two jobs that end together (a cancelled photo load and its
+	// replacement) would otherwise be applied to the session at the same
+	// time, which the race detector reported.
+	finishMu sync.Mutex
 }
 
 func newJobs(parent context.Context) *jobs {
@@ -106,7 +113,9 @@ func (js *jobs) start(kind string, fn func(ctx context.Context) error, finish fu
 		}
 		js.mu.Unlock()
 		if finish != nil {
+			js.finishMu.Lock()
 			finish(j.err)
+			js.finishMu.Unlock()
 		}
 		close(j.done)
 	}()

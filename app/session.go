@@ -441,7 +441,13 @@ func (s *Session) SaveCapture() error {
 	if s.Capture == nil {
 		return errors.New("no capture is open")
 	}
-	if err := s.Capture.Save(s.Capture.Path); err != nil {
+	// Save a copy: Save records the path and directory it wrote in the
+	// Capture, and a photo, thumbnail or fit job may be reading them from
+	// the session's Capture at this moment (a data race the race detector
+	// reported). The path is the same, so the session's Capture needs no
+	// update.
+	cp := *s.Capture
+	if err := cp.Save(s.Capture.Path); err != nil {
 		return err
 	}
 	s.CaptureDirty = false
