@@ -69,12 +69,14 @@
 //
 // # Pictures
 //
-// Views wider than Options.PanelWidth (default 480 pixels) are drawn reduced
-// by the smallest whole factor that fits (3 for the full demo's 1280x960):
+// Views wider than Options.PanelWidth (default 400 pixels) are drawn reduced
+// by the smallest whole factor that fits (4 for the full demo's 1280x960):
 // each picture pixel is the mean linear value of a block for the photo and
 // the simulation, and the mean Delta E 2000 and dL* of the block's compared
 // pixels for the maps, as their legends say. The metrics use every pixel.
-// This keeps the page, which holds every picture, light enough to mail.
+// This keeps the page, which holds every picture, light enough to mail; for
+// the same reason the Delta E 2000 map appears once, as the strip's right
+// panel with its legend, and the lightness map follows on its own.
 //
 // The rule's estimate of the render's noise (median standard error over the
 // compared pixels, from the pilot) is reported beside sigma_p for every

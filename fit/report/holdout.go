@@ -45,8 +45,10 @@ const (
 	// 64, and the rule stopped too early.
 	PilotSPP    = 64
 	PilotPixels = 4096
-	// DefaultPanelWidth is the default of Options.PanelWidth.
-	DefaultPanelWidth = 480
+	// DefaultPanelWidth is the default of Options.PanelWidth: the page's
+	// strip shows three panels across its column of 64em, about 340 CSS
+	// pixels each.
+	DefaultPanelWidth = 400
 )
 
 // Options control the holdout comparisons. The zero value is the documented

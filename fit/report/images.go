@@ -36,8 +36,9 @@ func (r *Report) addHoldoutImages(k int, rec *HoldoutRecord, ho *Holdout) error 
 		suffix, caption string
 		img             image.Image
 	}{
-		{"strip", fmt.Sprintf("Held-out photo %d (%s), left: the photograph. Middle: SIMULATION, a path-traced render of the same view with the fitted materials, not a photograph. Right: the Delta E 2000 difference between them.", k+1, ho.File), ho.Maps.Strip},
-		{"deltae", fmt.Sprintf("Held-out photo %d: CIEDE2000 colour difference per pixel between the photograph and the SIMULATION; hatched or blank pixels were not compared.", k+1), ho.Maps.DeltaEImage},
+		// The Delta E 2000 map is the strip's right panel, with its legend
+		// and statistics below the strip; the page does not repeat it.
+		{"strip", fmt.Sprintf("Held-out photo %d (%s), left: the photograph. Middle: SIMULATION, a path-traced render of the same view with the fitted materials, not a photograph. Right: the CIEDE2000 colour difference between them per pixel, with its scale below; hatched pixels were not compared.", k+1, ho.File), ho.Maps.Strip},
 		{"deltal", fmt.Sprintf("Held-out photo %d: lightness difference, SIMULATION minus photograph (CIELAB L*); blue where the simulation is darker, orange where it is lighter.", k+1), ho.Maps.DeltaLImage},
 	}
 	// The pictures are encoded in parallel; each encoding is

@@ -153,10 +153,7 @@ section.holdout { page-break-before: auto; }
 <h3>{{inc $i}}. {{$h.File}} &nbsp;<span class="badge {{if $h.Verdict.Pass}}pass{{else}}fail{{end}}">{{verdictWord $h.Verdict.Pass}}</span></h3>
 <p class="muted">Camera {{$h.Camera}}, lights {{join $h.Lights ", "}}, {{$h.Width}}&times;{{$h.Height}} pixels; simulation at {{$h.Sampling.SPP}} samples per pixel{{if $h.Sampling.Automatic}} (chosen by the noise rule){{end}}, seed {{$h.Seed}}, at most {{$h.MaxDepth}} bounces; rendered in {{f 1 $h.RenderSeconds}} s.</p>
 {{figure $r (printf "holdout-%d-strip.png" (inc $i))}}
-<div class="pair">
-{{figure $r (printf "holdout-%d-deltae.png" (inc $i))}}
 {{figure $r (printf "holdout-%d-deltal.png" (inc $i))}}
-</div>
 <p><strong>{{$h.Verdict.Text}}</strong></p>
 <table>
 <tr><th>pixels compared</th><th class="n">count</th><th class="n">mean &Delta;E00</th><th class="n">median</th><th class="n">95th pct.</th><th class="n">max</th><th class="n">PSNR linear</th><th class="n">PSNR sRGB</th><th class="n">SSIM</th><th>verdict</th></tr>
