@@ -108,23 +108,41 @@ func (c *comparison) ssimBand(band int) {
 		if c.excludeBorder && (y < ssimRadius || y >= h-ssimRadius) {
 			continue
 		}
+		xs, xe := 0, w
+		if c.excludeBorder {
+			xs, xe = ssimRadius, w-ssimRadius
+		}
+		// Only the span of the row's valid pixels needs the vertical
+		// filter: the map is evaluated at valid pixels only.
+		if c.valid != nil {
+			row := c.valid[y*w : y*w+w]
+			for xs < xe && !row[xs] {
+				xs++
+			}
+			for xe > xs && !row[xe-1] {
+				xe--
+			}
+		}
+		if xs >= xe {
+			continue
+		}
 		ylo, yhi := max(0, y-ssimRadius), min(h-1, y+ssimRadius)
 		for k := 0; k < ssimSums; k++ {
-			o := buf.out[k][:w]
+			o := buf.out[k][xs:xe]
 			if yhi-ylo == 2*ssimRadius {
 				// The whole window is inside the image: one pass with
 				// the symmetric taps paired.
 				var r [win][]float64
 				for t := range r {
 					yy := ylo + t
-					r[t] = buf.ring[k][(yy%win)*w : (yy%win)*w+w][:len(o)]
+					r[t] = buf.ring[k][(yy%win)*w+xs : (yy%win)*w+xe][:len(o)]
 				}
 				verticalSymmetric(o, &r, g)
 				continue
 			}
 			first := true
 			for yy := ylo; yy <= yhi; yy++ {
-				src := buf.ring[k][(yy%win)*w : (yy%win)*w+w]
+				src := buf.ring[k][(yy%win)*w+xs : (yy%win)*w+xe]
 				src = src[:len(o)]
 				gt := g[yy-y+ssimRadius]
 				if first {
@@ -138,10 +156,6 @@ func (c *comparison) ssimBand(band int) {
 					o[x] += gt * src[x]
 				}
 			}
-		}
-		xs, xe := 0, w
-		if c.excludeBorder {
-			xs, xe = ssimRadius, w-ssimRadius
 		}
 		s0, s1, s2, s11, s22, s12 := buf.out[0][:w], buf.out[1][:w], buf.out[2][:w], buf.out[3][:w], buf.out[4][:w], buf.out[5][:w]
 		for x := xs; x < xe; x++ {
