@@ -534,8 +534,9 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 						o.shadow++
 						continue
 					}
-					// A metal has no indirect term (ambientResponse).
-					if opts.IndirectSamples > 0 && set.Segments[p.seg].Kind != brdf.Metal {
+					// A metal's indirect factors only feed its sigma
+					// (ambientResponse, SegmentFit.uncertainty).
+					if opts.IndirectSamples > 0 {
 						q := int(p.pix)
 						ng := v.gb.Ng[q]
 						if ng.Dot(v.gb.Ns[q]) < 0 {

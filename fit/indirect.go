@@ -1,6 +1,8 @@
 package fit
 
 import (
+	"context"
+	"fmt"
 	"math"
 	"math/rand/v2"
 
@@ -81,7 +83,26 @@ func effectiveColours(kind brdf.Kind, v []float64) (d, s [3]float64) {
 // 45% of its F0 away). A dielectric's specular lobe reflects a few percent
 // of the indirect light, where the same approximation costs little.
 func ambientResponse(p *brdf.Params, dR *[3][brdf.MaxParams]float64) [3]float64 {
+	return ambientResponseMatte(p, dR, false)
+}
+
+// ambientResponseMatte is ambientResponse; with matteMetal a metal's lobe
+// is treated as matte too, R = F0 / pi (only for the sensitivity refit of
+// a metal's sigma, see metalIndirectSigma).
+func ambientResponseMatte(p *brdf.Params, dR *[3][brdf.MaxParams]float64, matteMetal bool) [3]float64 {
 	var r [3]float64
+	if p.Kind == brdf.Metal && matteMetal {
+		if dR != nil {
+			*dR = [3][brdf.MaxParams]float64{}
+			for c := 0; c < 3; c++ {
+				dR[c][c] = 1 / math.Pi
+			}
+		}
+		for c := 0; c < 3; c++ {
+			r[c] = p.Specular[c] / math.Pi
+		}
+		return r
+	}
 	if p.Kind == brdf.Metal {
 		if dR != nil {
 			*dR = [3][brdf.MaxParams]float64{}
@@ -246,3 +267,63 @@ func indirectFactors(p, ns, ng render.Vec3, lights []photoLight, scene *render.S
 // next indirect estimate: the estimate is good to tens of percent, so a
 // loss converged to 1e-4 is plenty.
 const looseRelTol = 1e-4
+
+// metalIndirectSigma refits a metal with its lobe treated as matte for the
+// indirect light (ambientResponseMatte), warm-started from sf, and adds
+// MetalIndirectFactor times the shift of every parameter to its sigma in
+// quadrature (and records it in IndirectSigma). The extra passes are
+// counted in SigmaPasses, not in Passes or the loss history.
+//
+// The model leaves a metal's reflection of indirect light out, but it is
+// there: it fattens the far tail of the lobe, which a fit without
+// near-specular observations reads as a rougher, darker metal. The refit
+// measures how far the parameters move between leaving the term out and
+// the matte-lobe estimate of it, which overstates it (a glossy lobe sees
+// only what lies near the mirror direction).
+func metalIndirectSigma(ctx context.Context, so *SegmentObservations, sf *SegmentFit, hold *held, opts Options) error {
+	eps := so.Floor
+	if opts.NoiseFloor > 0 {
+		eps = opts.NoiseFloor
+	}
+	if eps <= 0 {
+		eps = 1e-4
+	}
+	o := opts
+	o.Progress = nil
+	o.RelTol = math.Max(o.RelTol, looseRelTol)
+	so.Obs.matteMetal = true
+	defer func() { so.Obs.matteMetal = false }()
+	warm := sf.Params
+	alt, err := fitSegment(ctx, &so.Obs, so.Kind, so.Name, 0, 1, eps, "", &warm, hold, o)
+	if err != nil {
+		return err
+	}
+	sf.SigmaPasses += alt.Passes
+	np := so.Kind.NumParams()
+	var a, b, sg [brdf.MaxParams]float64
+	sf.Params.Vector(a[:0])
+	alt.Params.Vector(b[:0])
+	sf.Sigma.Vector(sg[:0])
+	for k := 0; k < np; k++ {
+		if hold != nil && hold.fixed[k] {
+			continue
+		}
+		sys := MetalIndirectFactor * math.Abs(b[k]-a[k])
+		sf.IndirectSigma[k] = sys
+		sg[k] = math.Hypot(sg[k], sys)
+	}
+	sf.Sigma = sigmaParams(so.Kind, sg[:np])
+	names := paramNames(so.Kind)
+	var loose []string
+	for k := 0; k < np; k++ {
+		if sf.IndirectSigma[k] > opts.MaxRelativeSigma*math.Max(math.Abs(a[k]), 0.05) {
+			loose = append(loose, fmt.Sprintf("%s %.3g ± %.2g", names[k], a[k], sg[k]))
+		}
+	}
+	if len(loose) > 0 {
+		sf.Warnings = append(sf.Warnings, fmt.Sprintf(
+			"the light this metal reflects from its surroundings (left out of the model) could move its parameters: %s; photos with highlights on it (a light near the mirror direction of a camera) would pin them down",
+			joinList(loose)))
+	}
+	return nil
+}

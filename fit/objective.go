@@ -219,9 +219,9 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 	ambient := len(ob.AR) == ob.Len() && hi > lo
 	if ambient {
 		if wantGrad {
-			resp = ambientResponse(p, &dR)
+			resp = ambientResponseMatte(p, &dR, ob.matteMetal)
 		} else {
-			resp = ambientResponse(p, nil)
+			resp = ambientResponseMatte(p, nil, ob.matteMetal)
 		}
 	}
 	loss := 0.0

@@ -48,6 +48,9 @@ type Observations struct {
 	// observation estimated from IndK and the current albedos; the forward
 	// model adds the reflection of it (ambientResponse).
 	AR, AG, AB []float32
+	// matteMetal makes the forward model treat a metal's lobe as matte for
+	// the indirect term (the sensitivity refit of metalIndirectSigma).
+	matteMetal bool
 }
 
 // Len is the number of observations.

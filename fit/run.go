@@ -244,6 +244,16 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 				return nil, err
 			}
 		}
+		// A metal's sigma gets the sensitivity to the indirect light it
+		// reflects, which the model leaves out.
+		for si, so := range set.Segments {
+			if so.Kind != brdf.Metal || !fits[si].Fitted || len(so.Obs.AR) != so.Obs.Len() {
+				continue
+			}
+			if err := metalIndirectSigma(ctx, so, fits[si], holds[si], opts); err != nil {
+				return nil, err
+			}
+		}
 		res.Indirect = fmt.Sprintf("one-bounce indirect light from the mesh, %d rays per observation, %d refits", opts.IndirectSamples, opts.IndirectStages)
 		res.Loss += "; model: direct light plus one-bounce indirect light off the mesh"
 
@@ -356,7 +366,7 @@ func median(x []float64) float64 {
 func modelAt(ob *Observations, i int, p *brdf.Params) [3]float64 {
 	m := directAt(ob, i, p)
 	if len(ob.AR) == ob.Len() && ob.Len() > 0 {
-		r := ambientResponse(p, nil)
+		r := ambientResponseMatte(p, nil, ob.matteMetal)
 		m[0] += r[0] * float64(ob.AR[i])
 		m[1] += r[1] * float64(ob.AG[i])
 		m[2] += r[2] * float64(ob.AB[i])

@@ -55,6 +55,9 @@ type SegmentFit struct {
 	Loss float64
 	// Passes over the observations, all roughness starts included.
 	Passes int
+	// SigmaPasses are the passes of a metal's sensitivity refit for its
+	// sigma (metalIndirectSigma), not counted in Passes.
+	SigmaPasses int
 	// LossHistory is the loss evaluated at every pass, in order (its length
 	// is Passes): the short runs from each roughness start come first, then
 	// the continued best start (so the curve restarts at each start), and a
@@ -304,7 +307,7 @@ func initialGuesses(obs *Observations, kind brdf.Kind, hold *held, opts Options)
 				}
 			}
 			if len(obs.AR) == n {
-				r0, r1 := ambientResponse(&p0, nil), ambientResponse(&p1, nil)
+				r0, r1 := ambientResponseMatte(&p0, nil, obs.matteMetal), ambientResponseMatte(&p1, nil, obs.matteMetal)
 				amb := [3]float64{float64(obs.AR[i]), float64(obs.AG[i]), float64(obs.AB[i])}
 				for c := 0; c < 3; c++ {
 					b[c] += r0[c] * amb[c]
@@ -399,6 +402,9 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 	ambient := len(obs.AR) == obs.Len() && obs.Len() > 0
 	var dR [3][brdf.MaxParams]float64
 	resp := ambientResponse(p, &dR)
+	// uResp is the response whose error the systematic term below measures
+	// (a metal's, 0, is handled by metalIndirectSigma).
+	uResp, uFactor := resp, IndirectRelError
 	for i := 0; i < obs.Len(); i++ {
 		wo := brdf.Vec{X: float64(obs.WoX[i]), Y: float64(obs.WoY[i]), Z: float64(obs.WoZ[i])}
 		s, e := obs.lights(i)
@@ -419,8 +425,8 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 		if ambient {
 			a := [3]float64{float64(obs.AR[i]), float64(obs.AG[i]), float64(obs.AB[i])}
 			for c := 0; c < 3; c++ {
-				mAmb[c] = resp[c] * a[c]
-				m[c] += mAmb[c]
+				mAmb[c] = uResp[c] * a[c]
+				m[c] += resp[c] * a[c]
 				for k := 0; k < np; k++ {
 					dm[c][k] += dR[c][k] * a[c]
 				}
@@ -591,7 +597,7 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 			for b := 0; b < np; b++ {
 				dp += inv.At(a, b) * u[b]
 			}
-			sys := IndirectRelError * math.Abs(dp)
+			sys := uFactor * math.Abs(dp)
 			res.IndirectSigma[a] = sys
 			sigma[a] = math.Hypot(sigma[a], sys)
 		}
@@ -660,7 +666,7 @@ func (res *SegmentFit) warn(opts Options, advice string) {
 	}
 	if len(atBound) > 0 {
 		res.Warnings = append(res.Warnings, fmt.Sprintf(
-			"at the limit of the valid range: %s; the direct-lighting model cannot explain these photos well; look for light reflected onto the segment by bright or concave surroundings, a wrong light intensity, or pixels of another material in this segment",
+			"at the limit of the valid range: %s; the model cannot explain these photos well; look for light reflected onto the segment by bright or concave surroundings, a wrong light intensity, or pixels of another material in this segment",
 			joinList(atBound)))
 	}
 	if res.Stop == stopPasses {
@@ -696,6 +702,13 @@ func joinList(items []string) string {
 // be good to about a third (a judgement, documented here, not a measured
 // figure).
 const IndirectRelError = 0.33
+
+// MetalIndirectFactor turns the parameter shift of a metal's sensitivity
+// refit (metalIndirectSigma) into a standard deviation: the reflected
+// indirect light the model leaves out lies somewhere between none and
+// about the matte-lobe estimate, and for a value spread evenly over [0, M]
+// the root-mean-square error of taking 0 is M / sqrt(3).
+var MetalIndirectFactor = 1 / math.Sqrt(3)
 
 type groupStat struct{ n, sum, sum2 float64 }
 
