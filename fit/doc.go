@@ -24,8 +24,12 @@
 // light delivers (intensity / r^2 times the cosine of incidence for a point
 // light, irradiance times that cosine for a directional one; a sphere light
 // counts as a point light of the same intensity at its centre, exact in the
-// far field). Interreflection is not modelled: a concave or a bright
-// neighbourhood makes a segment look brighter than the model predicts.
+// far field). Interreflection is modelled to one bounce (indirect.go):
+// cosine-weighted rays from every observation find the direct light the
+// rest of the mesh reflects onto it, the fitted albedos turn that into an
+// indirect irradiance between fitting stages, and the model adds its
+// reflection by the observed surface (a metal's is left out, and enters
+// its sigma instead). Options.IndirectSamples < 0 turns the term off.
 //
 // The loss is Charbonnier on the log-radiance residual; the objective's doc
 // comment says why. Gradients are analytic (brdf.EvalGrad), evaluated on all
@@ -50,9 +54,13 @@
 // # Uncertainty and diagnostics
 //
 // Sigma is the larger of the Gauss-Newton standard deviation (scaled by the
-// residual variance) and the photo-clustered sandwich one, in the
-// parameters' natural units (see SegmentFit.uncertainty for the formulas and
-// sources). Warnings say, in plain words with advice, when specular colour
+// residual variance and by the design effect of the residuals' correlation
+// within a photo) and the photo-clustered sandwich one, with the
+// sensitivity to the indirect-light estimate added in quadrature, in the
+// parameters' natural units (see SegmentFit.uncertainty and
+// metalIndirectSigma for the formulas and sources). A parameter held by
+// Options.Locks keeps its value exactly and has sigma 0; LossHistory
+// records the loss of every pass. Warnings say, in plain words with advice, when specular colour
 // and roughness rest on too few near-specular observations, when a
 // parameter's sigma exceeds Options.MaxRelativeSigma of its value, when a
 // calibration target disagrees with its reference albedo and when one photo
