@@ -1,8 +1,10 @@
 package app
 
 import (
+	"path/filepath"
 	"testing"
 
+	"patina/assets/materials"
 	"patina/brdf"
 	"patina/fit"
 )
@@ -38,6 +40,28 @@ func TestFitHoldsLockedParameter(t *testing.T) {
 	}
 	if len(sf.LossHistory) != sf.Passes {
 		t.Errorf("%d losses for %d passes", len(sf.LossHistory), sf.Passes)
+	}
+	// The hold and the loss history survive a save and a reopen: the file
+	// names the held parameter and carries one loss per pass, and a new
+	// session reading it holds the same parameter again.
+	out := filepath.Join(t.TempDir(), "m.json")
+	if err := s.SaveMaterials(out); err != nil {
+		t.Fatal(err)
+	}
+	mf, err := materials.Load(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ms := mf.Segment(sf.Name)
+	if ms == nil || len(ms.Locked) != 1 || ms.Locked[0] != "roughness" || len(ms.LossHistory) != sf.Passes {
+		t.Fatalf("saved segment %+v", ms)
+	}
+	s2 := openFixture(t)
+	if err := s2.LoadMaterials(out); err != nil {
+		t.Fatal(err)
+	}
+	if s2.Materials[0].Locked != LockRoughness || s2.Materials[0].Params.Roughness != 0.61 {
+		t.Errorf("reopened: lock %v, roughness %v", s2.Materials[0].Locked, s2.Materials[0].Params.Roughness)
 	}
 }
 

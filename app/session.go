@@ -402,6 +402,7 @@ func (s *Session) applyMaterialsFile(mf *materials.File) {
 		}
 		sm := &s.Materials[i]
 		sm.Params, sm.Observations, sm.NearSpecular, sm.Warnings = p, ms.Observations, ms.NearSpecular, ms.Warnings
+		sm.Locked = locksFromNames(ms.Locked)
 		sm.Fitted = ms.RMSE != nil
 		if ms.RMSE != nil {
 			sm.RMSE = *ms.RMSE
@@ -479,12 +480,48 @@ func (s *Session) MaterialsFile(outPath string) *materials.File {
 		if i, ok := byName[sm.Name]; ok {
 			old := f.Segments[i]
 			ms.Sigma, ms.Observations, ms.NearSpecular, ms.RMSE, ms.Warnings = old.Sigma, old.Observations, old.NearSpecular, old.RMSE, old.Warnings
+			ms.LossHistory = old.LossHistory
+			ms.Locked = sm.Locked.names(sm.Params.Kind)
 			f.Segments[i] = ms
 		} else {
+			ms.Locked = sm.Locked.names(sm.Params.Kind)
 			f.Segments = append(f.Segments, ms)
 		}
 	}
 	return f
+}
+
+// lockNames pairs the table's lock bits with the materials file's names
+// (materials.LockableParams).
+var lockNames = []struct {
+	bit  Lock
+	name string
+}{{LockDiffuse, "diffuse"}, {LockSpecular, "specular"}, {LockRoughness, "roughness"}}
+
+// names lists the locked parameters as a materials file spells them; a
+// metal has no diffuse term to hold.
+func (l Lock) names(kind brdf.Kind) []string {
+	var out []string
+	for _, ln := range lockNames {
+		if l&ln.bit != 0 && !(ln.bit == LockDiffuse && kind == brdf.Metal) {
+			out = append(out, ln.name)
+		}
+	}
+	return out
+}
+
+// locksFromNames is the inverse of Lock.names; the file's validation has
+// already refused unknown names.
+func locksFromNames(names []string) Lock {
+	var l Lock
+	for _, n := range names {
+		for _, ln := range lockNames {
+			if n == ln.name {
+				l |= ln.bit
+			}
+		}
+	}
+	return l
 }
 
 // SaveMaterials writes the segment table as a materials file, atomically.
