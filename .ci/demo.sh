@@ -4,6 +4,9 @@
 # compare with the held-out photos and write the report, then open the
 # workbench when a display is available.
 set -euo pipefail
+# The GUI toolkit reads the locale when the binary starts and logs an error
+# for Debian's default LANG=C.UTF-8; Patina's text is English only.
+if [ -z "${LANGUAGE:-}" ]; then export LANGUAGE=en; fi
 bin=$1
 out=$2
 size=${DEMO_SIZE:-full}
