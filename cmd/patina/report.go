@@ -20,7 +20,7 @@ import (
 )
 
 const reportUsage = `patina report CAPTURE.json -materials M.json [-o report.html] [-spp N] [-min-spp N] [-max-spp N]
-       [-noise-ratio R] [-depth D] [-tolerance NAME] [-seed S] [-threads N] [-progress auto|always|never]
+       [-noise-ratio R] [-indirect-clamp F] [-depth D] [-tolerance NAME] [-seed S] [-threads N] [-progress auto|always|never]
 
 Proves the materials file against the capture's holdout photos: renders the
 view of every photo marked "holdout" under its lights with the fitted
@@ -40,6 +40,11 @@ typical pixel: a pilot render of a few thousand pixels measures the render's
 noise, the photo's is estimated with Immerkaer's operator, and the render
 gets the samples the ratio needs, at least -min-spp (default 16) and at most
 -max-spp (default 64; the page says when the cap bound).
+-indirect-clamp F bounds what one path sample may add through two or more
+scatterings to F times the photo's full scale (default 0.25; negative: no
+clamp): caustic light that a photograph averages smoothly shows in a render
+of few samples as rare bright specks, which would dominate its noise. Light
+seen directly or after one scattering is never clamped.
 -depth is the largest number of scattering events (default 4: direct and
 indirect light). -seed selects the renders' random sequence: the same seed
 gives the same pictures on any number of threads.
@@ -131,6 +136,7 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	maxSPP := fs.Int("max-spp", report.DefaultMaxSPP, "largest samples per pixel the noise rule may choose")
 	minSPP := fs.Int("min-spp", report.MinSPP, "fewest samples per pixel the noise rule may choose")
 	ratio := fs.Float64("noise-ratio", report.DefaultNoiseRatio, "wanted ratio of the render's noise to the photo's")
+	clamp := fs.Float64("indirect-clamp", report.DefaultIndirectClamp, "bound on one sample's light of two or more scatterings, as a fraction of the photo's full scale (negative: none)")
 	depth := fs.Int("depth", report.DefaultMaxDepth, "largest number of scattering events")
 	tolName := fs.String("tolerance", metrics.FADGI3Star.Name, "tolerance preset")
 	seed := fs.Uint64("seed", 1, "random seed of the renders")
@@ -160,12 +166,15 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	if st, err := os.Stat(filepath.Dir(*out)); err != nil || !st.IsDir() {
 		return badInputf("report: -o %s: the directory %s does not exist", *out, filepath.Dir(*out))
 	}
-	opts := report.Options{SPP: *spp, MinSPP: *minSPP, MaxSPP: *maxSPP, NoiseRatio: *ratio, MaxDepth: *depth, Seed: *seed, Threads: *threads, Tolerance: tol}
+	opts := report.Options{SPP: *spp, MinSPP: *minSPP, MaxSPP: *maxSPP, NoiseRatio: *ratio, IndirectClamp: *clamp, MaxDepth: *depth, Seed: *seed, Threads: *threads, Tolerance: tol}
 	if *minSPP < report.LowestMinSPP {
 		return badInputf("report: -min-spp %d: expected %d..%d", *minSPP, report.LowestMinSPP, report.MaxSPPLimit)
 	}
 	if !(*ratio > 0) || math.IsInf(*ratio, 0) {
 		return badInputf("report: -noise-ratio %v: expected a finite value above 0", *ratio)
+	}
+	if *clamp == 0 || math.IsNaN(*clamp) || math.IsInf(*clamp, 0) {
+		return badInputf("report: -indirect-clamp %v: expected a finite fraction of full scale above 0, or negative for no clamp", *clamp)
 	}
 	if *depth <= 0 {
 		return badInputf("report: -depth %d: expected 1..1024", *depth)

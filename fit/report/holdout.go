@@ -33,6 +33,10 @@ const (
 	LowestMinSPP      = 2
 	DefaultMaxDepth   = 4
 	DefaultNoiseRatio = 0.5
+	// DefaultIndirectClamp is the default of Options.IndirectClamp: a
+	// quarter of the photo's full scale, the bound the demo's own
+	// photographs are made with (assets/demo).
+	DefaultIndirectClamp = 0.25
 	// MaxSPPLimit bounds Options.SPP and Options.MaxSPP.
 	MaxSPPLimit = 1 << 16
 	// PilotSPP and PilotPixels size the noise rule's pilot render: that
@@ -68,6 +72,16 @@ type Options struct {
 	// MaxDepth is the render's largest number of scattering events (direct
 	// and indirect light); 0 means DefaultMaxDepth.
 	MaxDepth int
+	// IndirectClamp bounds, as a fraction of the photo's full scale (its
+	// white level in the capture's radiance), what any one path sample
+	// may add through two or more scatterings (render.Settings'
+	// IndirectClamp). A photograph averages millions of photons per
+	// pixel; a render of a few dozen samples shows the same caustic light
+	// as rare bright specks, which dominate the render's noise and so the
+	// samples the noise rule asks for. Light seen directly or after one
+	// scattering, which is what the fitted materials decide, is never
+	// clamped. 0 means DefaultIndirectClamp; negative means no clamp.
+	IndirectClamp float64
 	// Seed selects the render's random sequence; 0 means 1. Holdout photo
 	// k is rendered with Seed + k, so views are independent.
 	Seed uint64
@@ -113,6 +127,9 @@ func (o Options) withDefaults() Options {
 	if o.MaxDepth <= 0 {
 		o.MaxDepth = DefaultMaxDepth
 	}
+	if o.IndirectClamp == 0 {
+		o.IndirectClamp = DefaultIndirectClamp
+	}
 	if o.Seed == 0 {
 		o.Seed = 1
 	}
@@ -148,6 +165,8 @@ func (o Options) Check() error {
 		return fmt.Errorf("depth %d: expected 0 (default) or 1..1024", o.MaxDepth)
 	case o.NoiseRatio < 0 || math.IsNaN(o.NoiseRatio) || math.IsInf(o.NoiseRatio, 0):
 		return fmt.Errorf("noise ratio %v: expected a finite value >= 0", o.NoiseRatio)
+	case math.IsNaN(o.IndirectClamp) || math.IsInf(o.IndirectClamp, 0):
+		return fmt.Errorf("indirect clamp %v: expected a finite fraction of full scale (negative for none)", o.IndirectClamp)
 	case o.Threads < 0:
 		return fmt.Errorf("threads %d: expected >= 0", o.Threads)
 	case o.PanelWidth < 0:
@@ -239,6 +258,10 @@ type Sampling struct {
 	// pixel of a pixel whose centre ray hits the mesh. The rest see no
 	// mesh and are left black.
 	RenderedPixels int `json:"rendered_pixels"`
+	// IndirectClamp is the bound on one sample's light of two or more
+	// scatterings, in the capture's radiance (0: none); see
+	// Options.IndirectClamp.
+	IndirectClamp float64 `json:"indirect_clamp"`
 }
 
 // Ratio is RenderNoise / PhotoNoise (NaN when the photo's noise is unknown).
@@ -396,12 +419,23 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 		Width: w, Height: h, MaxDepth: opts.MaxDepth, Seed: seed, PhotoPix: img.Pix, Valid: valid}
 	ls := &render.Lights{Lights: lights}
 	settings := render.Settings{MaxDepth: opts.MaxDepth, Seed: seed, Threads: opts.Threads}
+	var clampCapture float64
+	if opts.IndirectClamp > 0 {
+		d, err := c.Decoding(pi)
+		if err != nil {
+			return nil, &InputError{err}
+		}
+		// Full scale in the capture's radiance is the exposure
+		// multiplier; renders are in the capture's radiance over Scale.
+		clampCapture = opts.IndirectClamp * d.Exposure
+		settings.IndirectClamp = clampCapture / s.Scale
+	}
 	start := time.Now()
 
 	// Noise is measured away from silhouettes and segment borders, where a
 	// pixel mixes surfaces and its spread is that of the mix, not noise.
 	inner := interior(valid, v.segment, w, h)
-	smp := Sampling{SPP: opts.SPP, Target: opts.NoiseRatio, PhotoNoise: PhotoNoise(img.Pix, w, h, inner)}
+	smp := Sampling{SPP: opts.SPP, Target: opts.NoiseRatio, PhotoNoise: PhotoNoise(img.Pix, w, h, inner), IndirectClamp: clampCapture}
 	// Only pixels that can see the mesh are traced: every sample depends
 	// on (seed, pixel, sample index) alone, so a pixel's value is the same
 	// whichever other pixels are rendered.
