@@ -10,6 +10,7 @@ import (
 
 	"patina/assets/capture"
 	"patina/fit/metrics"
+	"patina/fit/report"
 	"patina/render"
 )
 
@@ -146,7 +147,14 @@ func (s *Session) RunCompare() (*Job, error) {
 			cam = scaledPinhole(cam, 1/float64(f))
 			cam.Width, cam.Height = w, h
 		}
-		film, err := render.Render(ctx, sc, cam, &render.Lights{Lights: pl}, mats, render.Settings{SPP: spp, Seed: 1,
+		// The report's bound on light of two or more scatterings, so
+		// the view and `patina report` show the same comparison.
+		dec, err := c.Decoding(pi)
+		if err != nil {
+			return err
+		}
+		clamp := report.DefaultIndirectClamp * dec.Exposure / scale
+		film, err := render.Render(ctx, sc, cam, &render.Lights{Lights: pl}, mats, render.Settings{SPP: spp, Seed: 1, IndirectClamp: clamp,
 			OnProgress: func(done, total int64) {
 				frac := float64(done) / float64(total)
 				cc.Post(func() { s.setStatus(fmt.Sprintf("Comparing with %s: rendering %.0f%%", file, 100*frac), 0.9*frac) })
