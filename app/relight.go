@@ -65,6 +65,9 @@ type RelightState struct {
 	Generation int
 
 	imageGen int // the generation of Pix
+	// clampEV is the exposure the running render's indirect clamp was
+	// set for (see relightClampFS).
+	clampEV float64
 	display  *image.RGBA
 	disp     Display
 	envKey   string
@@ -99,14 +102,27 @@ func (s *Session) RelightImage() *image.RGBA { return s.Relight.display }
 func (s *Session) SetRelight(r RelightState) {
 	keep := s.Relight
 	r.Pix, r.W, r.H, r.Done, r.Elapsed, r.FirstImage, r.Generation = keep.Pix, keep.W, keep.H, keep.Done, keep.Elapsed, keep.FirstImage, keep.Generation
-	r.display, r.disp, r.imageGen = keep.display, keep.disp, keep.imageGen
+	r.display, r.disp, r.imageGen, r.clampEV = keep.display, keep.disp, keep.imageGen, keep.clampEV
 	s.Relight = r
 	s.RestartRelight()
 }
 
-// SetExposure changes the display exposure without restarting the render.
+// relightClampFS bounds what one path sample may add through two or more
+// scatterings, as a fraction of the display's white at the exposure the
+// render starts with: caustics (the glaze focusing a lamp onto the card)
+// then refine as a glow instead of white specks that take thousands of
+// samples to average out, the trade the report and the demo photos make
+// too (render.Settings.IndirectClamp).
+const relightClampFS = 0.25
+
+// SetExposure changes the display exposure without restarting the render,
+// unless it moves more than a stop from the exposure the render's clamp
+// was set for.
 func (s *Session) SetExposure(ev float64) {
 	s.Relight.Exposure = ev
+	if math.Abs(ev-s.Relight.clampEV) > 1 && s.Relight.Active {
+		s.RestartRelight()
+	}
 	s.encodeRelight()
 	s.notify(ChangeRelight)
 }
@@ -288,6 +304,8 @@ func (s *Session) RestartRelight() {
 	}
 	r.Generation++
 	gen := r.Generation
+	r.clampEV = r.Exposure
+	clamp := relightClampFS * math.Exp2(-r.Exposure)
 	snap := *r
 	up := s.upVec()
 	ec := &s.envs
@@ -344,12 +362,12 @@ func (s *Session) RestartRelight() {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
-		f, err := render.Render(ctx, sc, coarse(cam), lights, mats, render.Settings{SPP: 1, MaxDepth: 2, Seed: 1})
+		f, err := render.Render(ctx, sc, coarse(cam), lights, mats, render.Settings{SPP: 1, MaxDepth: 2, Seed: 1, IndirectClamp: clamp})
 		if err != nil {
 			return err
 		}
 		deliver(ctx, f, false)
-		_, err = render.Render(ctx, sc, cam, lights, mats, render.Settings{SPP: spp, Seed: 1, OnPass: func(p render.Pass) {
+		_, err = render.Render(ctx, sc, cam, lights, mats, render.Settings{SPP: spp, Seed: 1, IndirectClamp: clamp, OnPass: func(p render.Pass) {
 			deliver(ctx, p.Film, p.SPP >= spp)
 		}})
 		return err

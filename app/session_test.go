@@ -388,6 +388,10 @@ func TestRelight(t *testing.T) {
 	rs := s.Relight
 	rs.Env = EnvNone
 	rs.PointIntensity = 4 * s.pointIntensity()
+	// A display exposure this low (-8 EV) puts the indirect clamp (a quarter of
+	// the display's white) above every contribution, so transport is
+	// exactly linear.
+	rs.Exposure = -8
 	s.SetRelight(rs)
 	waitJob(t, s, "relight")
 	one := lum(s.Relight.Pix)
@@ -402,13 +406,19 @@ func TestRelight(t *testing.T) {
 	if math.Abs(two/one-2) > 1e-4 {
 		t.Errorf("doubling the light gave ratio %v", two/one)
 	}
-	// Exposure re-encodes without a new render.
+	// Exposure within a stop of the render's re-encodes without a new
+	// render; further away it restarts, so the clamp follows the display.
 	g := s.Relight.Generation
 	prev := append([]uint8(nil), s.RelightImage().Pix...)
-	s.SetExposure(1)
+	s.SetExposure(-7.5)
 	if s.Relight.Generation != g || string(prev) == string(s.RelightImage().Pix) {
 		t.Error("exposure did not re-encode in place")
 	}
+	s.SetExposure(1)
+	if s.Relight.Generation != g+1 {
+		t.Errorf("an exposure 9 stops away kept the render (generation %d, was %d)", s.Relight.Generation, g)
+	}
+	waitJob(t, s, "relight")
 	dir := t.TempDir()
 	if err := s.SaveRender(filepath.Join(dir, "r.hdr")); err != nil {
 		t.Fatal(err)
@@ -432,6 +442,9 @@ func TestRelight(t *testing.T) {
 		t.Errorf("photo camera render %dx%d", s.Relight.W, s.Relight.H)
 	}
 	s.SetRelightActive(false)
+	if j := s.Job("relight"); j != nil {
+		waitFor(t, s, j) // cancelled: it returns at the next tile
+	}
 	if s.Job("relight") != nil {
 		t.Error("render still running with the view hidden")
 	}
