@@ -68,10 +68,10 @@ type RelightState struct {
 	// clampEV is the exposure the running render's indirect clamp was
 	// set for (see relightClampFS).
 	clampEV float64
-	display  *image.RGBA
-	disp     Display
-	envKey   string
-	envMap   *hdr.Image
+	display *image.RGBA
+	disp    Display
+	envKey  string
+	envMap  *hdr.Image
 }
 
 func defaultRelight() RelightState {
