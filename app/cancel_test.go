@@ -13,7 +13,6 @@ import (
 	"testing"
 	"time"
 
-	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/test"
 
 	"patina/fit"
@@ -49,44 +48,22 @@ func (g *gate) arm() {
 // driver, as newTestWorkbench does, with a gated Poster.
 func newGatedWorkbench(t *testing.T) (*Workbench, *gate) {
 	t.Helper()
-	a := test.NewTempApp(t)
-	dir := t.TempDir()
-	copyTree(t, filepath.Dir(fixture), dir)
-	q := make(chan func(), 4096)
 	g := &gate{}
-	post := func(f func()) {
-		if g.armed.CompareAndSwap(true, false) {
-			g.hit <- struct{}{}
-			<-g.release
+	post := func(q chan func()) Poster {
+		return func(f func()) {
+			if g.armed.CompareAndSwap(true, false) {
+				g.hit <- struct{}{}
+				<-g.release
+			}
+			q <- f
 		}
-		q <- f
 	}
-	wb := New(context.Background(), a, Options{Capture: filepath.Join(dir, "capture.json"), Post: post})
-	wb.S.queue = q
-	t.Cleanup(func() {
+	release := func() {
 		if g.armed.Swap(false) && g.release != nil {
 			close(g.release)
 		}
-		wb.cancel()
-		wb.S.jobs.cancelAll()
-		done := make(chan struct{})
-		go func() { wb.S.jobs.wait(); close(done) }()
-		for {
-			select {
-			case f := <-q:
-				f()
-				continue
-			case <-done:
-			}
-			break
-		}
-	})
-	wb.Win.Resize(fyne.NewSize(1200, 760))
-	if err := waitJob(t, wb.S, "open"); err != nil {
-		t.Fatal(err)
 	}
-	waitJob(t, wb.S, "photo")
-	return wb, g
+	return openTestWorkbench(t, post, release), g
 }
 
 // settle waits until no job of the session runs and the UI queue is empty,

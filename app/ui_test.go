@@ -19,13 +19,23 @@ import (
 // tests wait on the jobs before reading.
 func newTestWorkbench(t *testing.T) *Workbench {
 	t.Helper()
+	return openTestWorkbench(t, func(q chan func()) Poster { return func(f func()) { q <- f } }, nil)
+}
+
+// openTestWorkbench is newTestWorkbench with the Poster made by post from
+// the stand-in UI queue; beforeClose, if set, runs first at cleanup.
+func openTestWorkbench(t *testing.T, post func(q chan func()) Poster, beforeClose func()) *Workbench {
+	t.Helper()
 	a := test.NewTempApp(t)
 	dir := t.TempDir()
 	copyTree(t, filepath.Dir(fixture), dir)
 	q := make(chan func(), 4096)
-	wb := New(context.Background(), a, Options{Capture: filepath.Join(dir, "capture.json"), Post: func(f func()) { q <- f }})
+	wb := New(context.Background(), a, Options{Capture: filepath.Join(dir, "capture.json"), Post: post(q)})
 	wb.S.queue = q
 	t.Cleanup(func() {
+		if beforeClose != nil {
+			beforeClose()
+		}
 		wb.cancel()
 		wb.S.jobs.cancelAll()
 		done := make(chan struct{})

@@ -144,6 +144,60 @@ func bunnyMesh(t testing.TB) *Mesh {
 	return m
 }
 
+// leaf is the traversal's triangle test as one function, for the
+// brute-force reference (the generated octant loops of bvh_octants.go
+// inline the same code): it tests the triangles tris[first:first+count]
+// with the watertight test of Woop, Benthin and Wald (JCGT 2(1), 2013), in
+// float64 on the float32 vertices. Two triangles sharing an edge compute that edge's function from
+// the same transformed vertices and get exactly opposite values, so a ray
+// through the edge hits at least one of them.
+func (q *rayQuery) leaf(tris []triVerts, first, count int32, anyHit bool) bool {
+	ts := tris[first : first+count]
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the bounds checks below
+	}
+	sx, sy, sz := q.sx, q.sy, q.sz
+	okx, oky, okz := q.okx, q.oky, q.okz
+	found := false
+	for i := range ts {
+		t := &ts[i]
+		// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+		az := float64(t[kz]) - okz
+		bz := float64(t[3+kz]) - okz
+		cz := float64(t[6+kz]) - okz
+		ax := float64(t[kx]) - okx - sx*az
+		ay := float64(t[ky]) - oky - sy*az
+		bx := float64(t[3+kx]) - okx - sx*bz
+		by := float64(t[3+ky]) - oky - sy*bz
+		cx := float64(t[6+kx]) - okx - sx*cz
+		cy := float64(t[6+ky]) - oky - sy*cz
+		// Scaled barycentrics: 2D edge functions (eq. 5).
+		u := cx*by - cy*bx
+		v := ax*cy - ay*cx
+		w := bx*ay - by*ax
+		if min(u, v, w) < 0 && max(u, v, w) > 0 {
+			continue
+		}
+		det := u + v + w
+		if det == 0 {
+			continue
+		}
+		tt := (u*az + v*bz + w*cz) * sz / det
+		if !(tt > 0 && tt < q.tmax) {
+			continue
+		}
+		if anyHit {
+			return true
+		}
+		found = true
+		q.hitIndex = first + int32(i)
+		q.u, q.v, q.w = u/det, v/det, w/det
+		q.setTmax(tt)
+	}
+	return found
+}
+
 // bruteIntersect tests every triangle with the same watertight test.
 func bruteIntersect(s *Scene, r Ray, tmax float64) (t float64, tri int32, ok bool) {
 	var q rayQuery
