@@ -10,8 +10,9 @@ import (
 )
 
 // TestGeneratedTraversalUpToDate runs the generator in a scratch folder and
-// demands that its output is the committed bvh_octants.go, so an edit of
-// the template cannot be forgotten (or the generated file edited by hand).
+// demands that its outputs are the committed bvh_octants.go and
+// bvh_simd_octants.go, so an edit of the templates cannot be forgotten (or
+// a generated file edited by hand).
 func TestGeneratedTraversalUpToDate(t *testing.T) {
 	if testing.Short() {
 		t.Skip("compiles and runs the generator")
@@ -29,15 +30,17 @@ func TestGeneratedTraversalUpToDate(t *testing.T) {
 	if out, err := cmd.CombinedOutput(); err != nil {
 		t.Fatalf("go run bvh_gen.go: %v\n%s", err, out)
 	}
-	got, err := os.ReadFile(filepath.Join(dir, "bvh_octants.go"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	want, err := os.ReadFile("bvh_octants.go")
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !bytes.Equal(got, want) {
-		t.Fatal("bvh_octants.go differs from what bvh_gen.go writes: run `go generate` in render")
+	for _, name := range []string{"bvh_octants.go", "bvh_simd_octants.go"} {
+		got, err := os.ReadFile(filepath.Join(dir, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		want, err := os.ReadFile(name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(got, want) {
+			t.Fatalf("%s differs from what bvh_gen.go writes: run `go generate` in render", name)
+		}
 	}
 }

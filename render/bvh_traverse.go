@@ -179,7 +179,7 @@ func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
 	if len(s.nodes) == 0 || len(s.tris) == 0 {
 		return false
 	}
-	return s.traverseOctant(q, anyHit)
+	return s.traverseLoops(q, anyHit)
 }
 
 //go:generate go run bvh_gen.go
