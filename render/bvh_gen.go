@@ -181,6 +181,15 @@ func (s *Scene) traverseOctantVec(q *rayQuery, anyHit bool) bool {
 	switch q.octant & 7 {
 `
 
+const simd8Head = `
+// traverseOctantVec8 runs the 8-wide vector traversal loop specialised for
+// the octant of the ray direction, and clears the upper halves of the
+// vector registers before returning (see traverseOctantVec).
+func (s *Scene) traverseOctantVec8(q *rayQuery, anyHit bool) bool {
+	var hit bool
+	switch q.octant & 7 {
+`
+
 // simdBody is the vector loop: one Float32x4 slab test for the four
 // children of a node (the node rows are already one child per column),
 // then the hit children in order of entry distance: one goes straight on,
@@ -292,6 +301,104 @@ LEAF		}
 }
 `
 
+// simd8Body is the vector loop over the 8-wide tree: one Float32x8 slab
+// test per node; one hit child goes straight on, two push the farther one,
+// three to eight are pushed with their entry distances and sorted on the
+// stack by insertion, nearest on top, which is then popped.
+const simd8Body = `
+// traverseVec8OCT is traverseOctantVec8 for rays of octant OCT.
+func (s *Scene) traverseVec8OCT(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[NX]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[NY]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[NZ]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[FX]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[FY]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[FZ]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+LEAF		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+`
+
 func main() {
 	write("bvh_octants.go", scalarFile())
 	write("bvh_simd_octants.go", simdFile())
@@ -344,6 +451,16 @@ func simdFile() []byte {
 	for o := 0; o < 8; o++ {
 		r := strings.NewReplacer("OCT", fmt.Sprint(o), "LEAF", lf)
 		buf.WriteString(octantRows(o).Replace(r.Replace(simdBody)))
+	}
+	buf.WriteString(simd8Head)
+	for o := 0; o < 8; o++ {
+		fmt.Fprintf(&buf, "\tcase %d:\n\t\thit = s.traverseVec8%d(q, anyHit)\n", o, o)
+	}
+	buf.WriteString("\t}\n\tarchsimd.ClearAVXUpperBits()\n\treturn hit\n}\n")
+	lf8 := strings.ReplaceAll(leaf, "HITUPDATE", "\t\t\t\ttmaxb = math.Float32bits(q.tmax32)\n\t\t\t\ttmaxv = archsimd.BroadcastFloat32x8(q.tmax32)")
+	for o := 0; o < 8; o++ {
+		r := strings.NewReplacer("OCT", fmt.Sprint(o), "LEAF", lf8)
+		buf.WriteString(octantRows(o).Replace(r.Replace(simd8Body)))
 	}
 	return buf.Bytes()
 }

@@ -2,27 +2,154 @@
 
 package render
 
-import "simd/archsimd"
+import (
+	"math"
+	"simd/archsimd"
+)
 
-// With GOEXPERIMENT=simd on amd64 the traversal tests the four boxes of a
-// node with one Float32x4 slab test (bvh_simd_octants.go), when the CPU has
-// AVX2. The scalar loops stay compiled in: tests run both.
+// With GOEXPERIMENT=simd on amd64, when the CPU has AVX2, the binary SAH
+// tree is collapsed to an 8-wide one and traversal tests the eight boxes of
+// a node with one Float32x8 slab test (bvh_simd_octants.go): a third fewer
+// levels than the 4-wide tree, so fewer dependent node loads per ray, which
+// is what incoherent rays wait on. The scalar loops over the 4-wide tree
+// stay compiled in, and a Float32x4 loop over it: tests run all three.
 
-// vectorTraversal reports whether queries use the vector loops; tests
-// switch it off to check the scalar ones in the same build.
+// vectorTraversal reports whether scenes are built for the vector loops;
+// tests switch it off to check the scalar ones in the same build.
 var vectorTraversal = archsimd.X86.AVX2()
+
+// vectorWidth is the width of the tree the vector loops traverse, 8 or 4;
+// tests set 4 to check the Float32x4 loop.
+var vectorWidth = 8
 
 // TraversalPath names the traversal loops queries use, for reports.
 func TraversalPath() string {
-	if vectorTraversal {
-		return "simd (GOEXPERIMENT=simd, AVX2 Float32x4 box tests)"
+	switch {
+	case !vectorTraversal:
+		return "scalar"
+	case vectorWidth == 8:
+		return "simd: 8-wide tree, Float32x8 box tests (GOEXPERIMENT=simd, AVX2)"
 	}
-	return "scalar"
+	return "simd: 4-wide tree, Float32x4 box tests (GOEXPERIMENT=simd, AVX2)"
+}
+
+// vectorNodes holds the 8-wide tree of a scene built for the vector loops.
+type vectorNodes struct {
+	n8 []bvh8Node
+}
+
+// collapse makes the traversed tree from the binary one and returns its
+// node count: 8-wide for the vector loops when its traversal stack is big
+// enough (always, but for trees far deeper than any real mesh makes),
+// 4-wide otherwise.
+func (s *Scene) collapse(bin []bvhNode) int {
+	if vectorTraversal && vectorWidth == 8 {
+		n8 := collapse8(bin)
+		if stackNeed8(n8, 0) <= wideStackSize8 {
+			s.vec.n8 = n8
+			return len(n8)
+		}
+	}
+	s.nodes, _ = collapseBVH(bin)
+	return len(s.nodes)
 }
 
 func (s *Scene) traverseLoops(q *rayQuery, anyHit bool) bool {
+	if len(s.tris) == 0 {
+		return false
+	}
+	if s.vec.n8 != nil {
+		return s.traverseOctantVec8(q, anyHit)
+	}
+	if len(s.nodes) == 0 {
+		return false
+	}
 	if vectorTraversal {
 		return s.traverseOctantVec(q, anyHit)
 	}
 	return s.traverseOctant(q, anyHit)
+}
+
+// wideStackSize8 bounds the traversal stack of the 8-wide tree; a visit
+// pushes at most seven entries.
+const wideStackSize8 = 256
+
+// bvh8Node holds the boxes of up to eight children in structure-of-arrays
+// form, one Float32x8 per row.
+type bvh8Node struct {
+	box   [6][8]float32 // rows: min x, min y, min z, max x, max y, max z; one column per child
+	child [8]int32      // as bvh4Node.child
+	_     [8]int32      // pads the node to 256 bytes, four cache lines
+}
+
+// collapse8 turns the binary tree into an 8-wide one in depth-first order
+// by the greedy SAH collapse of collapseWith: each node takes the two
+// children of a binary node and opens the inner child of largest surface
+// area until it has eight.
+func collapse8(bin []bvhNode) []bvh8Node {
+	out := make([]bvh8Node, 0, len(bin)/6+1)
+	var emit func(ref int32) int32
+	emit = func(ref int32) int32 {
+		var slots [8]wideSlot
+		two := binChildren(&bin[ref])
+		slots[0], slots[1] = two[0], two[1]
+		n := 2
+		for n < 8 {
+			best, bestArea := -1, -1.0
+			for i := 0; i < n; i++ {
+				if slots[i].ref < 0 {
+					continue
+				}
+				if a := slots[i].box.area(); a > bestArea {
+					best, bestArea = i, a
+				}
+			}
+			if best < 0 {
+				break
+			}
+			kids := binChildren(&bin[slots[best].ref])
+			copy(slots[best+2:n+1], slots[best+1:n])
+			slots[best], slots[best+1] = kids[0], kids[1]
+			n++
+		}
+		idx := int32(len(out))
+		out = append(out, bvh8Node{})
+		var refs [8]int32
+		for i := range refs {
+			refs[i] = emptyChild
+			if i < n {
+				refs[i] = slots[i].ref
+				if refs[i] >= 0 {
+					refs[i] = emit(refs[i])
+				}
+			}
+		}
+		nd := &out[idx]
+		inf := float32(math.Inf(1))
+		for i := range refs {
+			b := box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}
+			if i < n {
+				b = slots[i].box
+			}
+			for a := 0; a < 3; a++ {
+				nd.box[a][i], nd.box[3+a][i] = b.lo[a], b.hi[a]
+			}
+			nd.child[i] = refs[i]
+		}
+		return idx
+	}
+	emit(0)
+	return out
+}
+
+// stackNeed8 is stackNeed for the 8-wide tree: a visit pushes at most seven
+// entries.
+func stackNeed8(nodes []bvh8Node, ni int32) int {
+	need := 0
+	for _, c := range nodes[ni].child {
+		if c >= 0 {
+			need = max(need, stackNeed8(nodes, c))
+		}
+	}
+	return need + 7
 }

@@ -1181,3 +1181,1078 @@ func (s *Scene) traverseVec7(q *rayQuery, anyHit bool) bool {
 		}
 	}
 }
+
+// traverseOctantVec8 runs the 8-wide vector traversal loop specialised for
+// the octant of the ray direction, and clears the upper halves of the
+// vector registers before returning (see traverseOctantVec).
+func (s *Scene) traverseOctantVec8(q *rayQuery, anyHit bool) bool {
+	var hit bool
+	switch q.octant & 7 {
+	case 0:
+		hit = s.traverseVec80(q, anyHit)
+	case 1:
+		hit = s.traverseVec81(q, anyHit)
+	case 2:
+		hit = s.traverseVec82(q, anyHit)
+	case 3:
+		hit = s.traverseVec83(q, anyHit)
+	case 4:
+		hit = s.traverseVec84(q, anyHit)
+	case 5:
+		hit = s.traverseVec85(q, anyHit)
+	case 6:
+		hit = s.traverseVec86(q, anyHit)
+	case 7:
+		hit = s.traverseVec87(q, anyHit)
+	}
+	archsimd.ClearAVXUpperBits()
+	return hit
+}
+
+// traverseVec80 is traverseOctantVec8 for rays of octant 0.
+func (s *Scene) traverseVec80(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// traverseVec81 is traverseOctantVec8 for rays of octant 1.
+func (s *Scene) traverseVec81(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// traverseVec82 is traverseOctantVec8 for rays of octant 2.
+func (s *Scene) traverseVec82(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// traverseVec83 is traverseOctantVec8 for rays of octant 3.
+func (s *Scene) traverseVec83(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// traverseVec84 is traverseOctantVec8 for rays of octant 4.
+func (s *Scene) traverseVec84(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// traverseVec85 is traverseOctantVec8 for rays of octant 5.
+func (s *Scene) traverseVec85(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// traverseVec86 is traverseOctantVec8 for rays of octant 6.
+func (s *Scene) traverseVec86(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}
+
+// traverseVec87 is traverseOctantVec8 for rays of octant 7.
+func (s *Scene) traverseVec87(q *rayQuery, anyHit bool) bool {
+	nodes := s.vec.n8
+	tris := s.tris
+	ox := archsimd.BroadcastFloat32x8(q.ox)
+	oy := archsimd.BroadcastFloat32x8(q.oy)
+	oz := archsimd.BroadcastFloat32x8(q.oz)
+	idx := archsimd.BroadcastFloat32x8(q.idx)
+	idy := archsimd.BroadcastFloat32x8(q.idy)
+	idz := archsimd.BroadcastFloat32x8(q.idz)
+	// Far distances carry Ize's padding, folded into the reciprocal.
+	fdx := archsimd.BroadcastFloat32x8(q.idx * boxPad)
+	fdy := archsimd.BroadcastFloat32x8(q.idy * boxPad)
+	fdz := archsimd.BroadcastFloat32x8(q.idz * boxPad)
+	zero := archsimd.BroadcastFloat32x8(0)
+	tmaxv := archsimd.BroadcastFloat32x8(q.tmax32)
+	kx, ky, kz := q.kx, q.ky, q.kz
+	if kx > 2 || ky > 2 || kz > 2 {
+		return false // never: lets the compiler drop the vertex bounds checks
+	}
+	tmaxb := math.Float32bits(q.tmax32)
+	var stack [wideStackSize8]stackEntry
+	var tn8 [8]float32
+	sp := 0
+	ni := int32(0) // >= 0: node; < 0: leaf (see bvh4Node.child)
+	for {
+		if ni >= 0 {
+			nd := &nodes[ni]
+			b := &nd.box
+			// As in the 4-wide loop: no operand is NaN.
+			tn := archsimd.LoadFloat32x8(&b[3]).Sub(ox).Mul(idx).Max(archsimd.LoadFloat32x8(&b[4]).Sub(oy).Mul(idy)).
+				Max(archsimd.LoadFloat32x8(&b[5]).Sub(oz).Mul(idz).Max(zero))
+			tf := archsimd.LoadFloat32x8(&b[0]).Sub(ox).Mul(fdx).Min(archsimd.LoadFloat32x8(&b[1]).Sub(oy).Mul(fdy)).
+				Min(archsimd.LoadFloat32x8(&b[2]).Sub(oz).Mul(fdz).Min(tmaxv))
+			m := uint(tn.LessEqual(tf).ToBits())
+			if m != 0 {
+				c := &nd.child
+				c0 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				if m == 0 {
+					ni = c[c0]
+					continue
+				}
+				tn.Store(&tn8)
+				c1 := bits.TrailingZeros(m) & 7
+				m &= m - 1
+				t0, t1 := math.Float32bits(tn8[c0]), math.Float32bits(tn8[c1])
+				n0, n1 := c[c0], c[c1]
+				if t1 < t0 {
+					n0, n1, t0, t1 = n1, n0, t1, t0
+				}
+				if m == 0 {
+					stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+					sp++
+					ni = n0
+					continue
+				}
+				base := sp
+				stack[sp&(wideStackSize8-1)] = stackEntry{n1, t1}
+				stack[(sp+1)&(wideStackSize8-1)] = stackEntry{n0, t0}
+				sp += 2
+				for ; m != 0; m &= m - 1 {
+					ci := bits.TrailingZeros(m) & 7
+					e := stackEntry{c[ci], math.Float32bits(tn8[ci])}
+					j := sp
+					for j > base && stack[(j-1)&(wideStackSize8-1)].t < e.t {
+						stack[j&(wideStackSize8-1)] = stack[(j-1)&(wideStackSize8-1)]
+						j--
+					}
+					stack[j&(wideStackSize8-1)] = e
+					sp++
+				}
+				sp--
+				ni = stack[sp&(wideStackSize8-1)].node
+				continue
+			}
+		} else {
+			first := ^ni >> leafCountBits
+			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
+			for i := range ts {
+				t := &ts[i]
+				// Woop et al. 2013: vertices relative to the origin,
+				// permuted, then sheared (eq. 2-4).
+				az := float64(t[kz]) - q.okz
+				bz := float64(t[3+kz]) - q.okz
+				cz := float64(t[6+kz]) - q.okz
+				ax := float64(t[kx]) - q.okx - q.sx*az
+				ay := float64(t[ky]) - q.oky - q.sy*az
+				bx := float64(t[3+kx]) - q.okx - q.sx*bz
+				by := float64(t[3+ky]) - q.oky - q.sy*bz
+				cx := float64(t[6+kx]) - q.okx - q.sx*cz
+				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx*by - cy*bx
+				v := ax*cy - ay*cx
+				w := bx*ay - by*ax
+				if min(u, v, w) < 0 && max(u, v, w) > 0 {
+					continue
+				}
+				det := u + v + w
+				if det == 0 {
+					continue
+				}
+				tt := (u*az + v*bz + w*cz) * q.sz / det
+				if !(tt > 0 && tt < q.tmax) {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				q.hitIndex = first + int32(i)
+				q.u, q.v, q.w = u/det, v/det, w/det
+				q.setTmax(tt)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+		}
+		for {
+			if sp == 0 {
+				return q.hitIndex >= 0
+			}
+			sp--
+			e := stack[sp&(wideStackSize8-1)]
+			if e.t <= tmaxb {
+				ni = e.node
+				break
+			}
+		}
+	}
+}

@@ -3,7 +3,7 @@
 package render
 
 // Without GOEXPERIMENT=simd (or off amd64) queries run the scalar loops of
-// bvh_octants.go only.
+// bvh_octants.go over the 4-wide tree only.
 
 // vectorTraversal is false: this build has no vector loops.
 const vectorTraversal = false
@@ -11,4 +11,19 @@ const vectorTraversal = false
 // TraversalPath names the traversal loops queries use, for reports.
 func TraversalPath() string { return "scalar" }
 
-func (s *Scene) traverseLoops(q *rayQuery, anyHit bool) bool { return s.traverseOctant(q, anyHit) }
+// vectorNodes is empty: this build makes no tree for vector loops.
+type vectorNodes struct{}
+
+// collapse makes the traversed 4-wide tree from the binary one and returns
+// its node count.
+func (s *Scene) collapse(bin []bvhNode) int {
+	s.nodes, _ = collapseBVH(bin)
+	return len(s.nodes)
+}
+
+func (s *Scene) traverseLoops(q *rayQuery, anyHit bool) bool {
+	if len(s.nodes) == 0 || len(s.tris) == 0 {
+		return false
+	}
+	return s.traverseOctant(q, anyHit)
+}

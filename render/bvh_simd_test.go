@@ -4,19 +4,36 @@ package render
 
 import "testing"
 
-// TestScalarLoopsInVectorBuild runs the BVH checks (brute force, closed
-// meshes, Möller-Trumbore, degenerate inputs, level collapse) on the scalar
-// loops of this vector build, so one build covers both paths; the other
-// tests of the package run the vector loops when the CPU has AVX2.
-func TestScalarLoopsInVectorBuild(t *testing.T) {
+// fourWide makes NewScene build the 4-wide tree until the returned
+// function is called.
+func fourWide() func() {
+	w := vectorWidth
+	vectorWidth = 4
+	return func() { vectorWidth = w }
+}
+
+// TestOtherLoopsInVectorBuild runs the BVH checks (brute force, closed
+// meshes, Möller-Trumbore, degenerate inputs) on the loops this vector
+// build does not use by default, the Float32x4 one over the 4-wide tree and
+// the scalar one, so one build covers every path; the other tests of the
+// package run the 8-wide vector loop when the CPU has AVX2.
+func TestOtherLoopsInVectorBuild(t *testing.T) {
 	if !vectorTraversal {
 		t.Skip("the CPU has no AVX2: every test already runs the scalar loops")
 	}
-	vectorTraversal = false
-	defer func() { vectorTraversal = true }()
-	t.Run("BVHAgainstBruteForce", TestBVHAgainstBruteForce)
-	t.Run("Watertight", TestWatertight)
-	t.Run("HitAgainstMollerTrumbore", TestHitAgainstMollerTrumbore)
-	t.Run("DegenerateInputs", TestDegenerateInputs)
-	t.Run("LevelCollapse", TestLevelCollapse)
+	checks := func(t *testing.T) {
+		t.Run("BVHAgainstBruteForce", TestBVHAgainstBruteForce)
+		t.Run("Watertight", TestWatertight)
+		t.Run("HitAgainstMollerTrumbore", TestHitAgainstMollerTrumbore)
+		t.Run("DegenerateInputs", TestDegenerateInputs)
+	}
+	t.Run("vector4", func(t *testing.T) {
+		defer fourWide()()
+		checks(t)
+	})
+	t.Run("scalar", func(t *testing.T) {
+		vectorTraversal = false
+		defer func() { vectorTraversal = true }()
+		checks(t)
+	})
 }

@@ -176,9 +176,6 @@ func (s *Scene) Occluded(r Ray, tmax float64) bool {
 // conditional moves, where Go's float32 min (NaN- and signed-zero-exact)
 // takes three dependent instructions.
 func (s *Scene) traverse(q *rayQuery, anyHit bool) bool {
-	if len(s.nodes) == 0 || len(s.tris) == 0 {
-		return false
-	}
 	return s.traverseLoops(q, anyHit)
 }
 

@@ -20,9 +20,10 @@ const MaxSceneTriangles = 1 << (31 - leafCountBits)
 // queries.
 type Scene struct {
 	mesh   *Mesh
-	nodes  []bvh4Node // the 4-wide hierarchy, root first
-	tris   []triVerts // vertices of each triangle in leaf order
-	triID  []int32    // mesh triangle index of each entry of tris
+	nodes  []bvh4Node  // the 4-wide hierarchy, root first (nil when vec holds the tree)
+	vec    vectorNodes // the vector build's 8-wide hierarchy (bvh_simd.go); empty otherwise
+	tris   []triVerts  // vertices of each triangle in leaf order
+	triID  []int32     // mesh triangle index of each entry of tris
 	bounds AABB
 	stats  BuildStats
 }
@@ -30,7 +31,7 @@ type Scene struct {
 // BuildStats describes a built hierarchy.
 type BuildStats struct {
 	Triangles int     // triangles in the scene
-	Nodes     int     // inner nodes of the traversed 4-wide hierarchy (each holds the boxes of up to four children)
+	Nodes     int     // inner nodes of the traversed hierarchy: 4-wide, or 8-wide in the vector build (TraversalPath)
 	Leaves    int     // leaves
 	Depth     int     // longest root-to-leaf path of the binary SAH tree, in edges (the 4-wide one is about half as deep)
 	Seconds   float64 // wall-clock build time
@@ -102,7 +103,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 		st.depth = 1
 		st.leaves = 1
 	}
-	s.nodes, _ = collapseBVH(bd.nodes)
+	nn := s.collapse(bd.nodes)
 	s.tris = make([]triVerts, nt)
 	s.triID = make([]int32, nt)
 	parallelFor(nt, threads, func(lo, hi int) {
@@ -125,7 +126,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 		}
 	}
 	s.stats = BuildStats{
-		Triangles: nt, Nodes: len(s.nodes), Leaves: st.leaves, Depth: st.depth,
+		Triangles: nt, Nodes: nn, Leaves: st.leaves, Depth: st.depth,
 		Seconds: time.Since(start).Seconds(), Threads: threads,
 	}
 	return s, nil
