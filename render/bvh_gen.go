@@ -146,6 +146,61 @@ HITUPDATE
 			}
 `
 
+// leafPacks is the leaf loop of the 8-wide vector tree: the watertight test
+// of Woop et al. on four triangles at once in Float64x4, the same float64
+// operations in the same order as the scalar leaf, so every lane decides
+// exactly as the scalar test does (and as the brute-force reference). The
+// closest valid lane (the first one on a tie, as the scalar loop takes it)
+// becomes the hit.
+const leafPacks = `			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
+				// Scaled barycentrics: 2D edge functions (eq. 5).
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
+					continue
+				}
+				if anyHit {
+					return true
+				}
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
+				tmaxb = math.Float32bits(q.tmax32)
+				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
+			}
+`
+
 // child is the slab test of child slot C; the entry distance is clamped to
 // 0 from below without a branch (n &^ (n >> 31)), d >= 0 means a hit. The
 // sort key holds the entry distance bits above and the slot below; a missed
@@ -309,7 +364,16 @@ const simd8Body = `
 // traverseVec8OCT is traverseOctantVec8 for rays of octant OCT.
 func (s *Scene) traverseVec8OCT(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -457,9 +521,8 @@ func simdFile() []byte {
 		fmt.Fprintf(&buf, "\tcase %d:\n\t\thit = s.traverseVec8%d(q, anyHit)\n", o, o)
 	}
 	buf.WriteString("\t}\n\tarchsimd.ClearAVXUpperBits()\n\treturn hit\n}\n")
-	lf8 := strings.ReplaceAll(leaf, "HITUPDATE", "\t\t\t\ttmaxb = math.Float32bits(q.tmax32)\n\t\t\t\ttmaxv = archsimd.BroadcastFloat32x8(q.tmax32)")
 	for o := 0; o < 8; o++ {
-		r := strings.NewReplacer("OCT", fmt.Sprint(o), "LEAF", lf8)
+		r := strings.NewReplacer("OCT", fmt.Sprint(o), "LEAF", leafPacks)
 		buf.WriteString(octantRows(o).Replace(r.Replace(simd8Body)))
 	}
 	return buf.Bytes()

@@ -33,13 +33,61 @@ func TraversalPath() string {
 	return "simd: 4-wide tree, Float32x4 box tests (GOEXPERIMENT=simd, AVX2)"
 }
 
-// vectorNodes holds the 8-wide tree of a scene built for the vector loops.
+// vectorNodes holds the 8-wide tree of a scene built for the vector loops
+// and its leaves' triangles in packs of four.
 type vectorNodes struct {
-	n8 []bvh8Node
+	n8    []bvh8Node // leaf references count packs: ^(first pack << leafCountBits | packs)
+	packs []triPack
 }
 
-// collapse makes the traversed tree from the binary one and returns its
-// node count: 8-wide for the vector loops when its traversal stack is big
+// triPack holds four triangles of a leaf in structure-of-arrays form, one
+// Float32x4 per vertex coordinate; a leaf of n triangles takes ceil(n/4)
+// packs, and the unused lanes of its last pack repeat one vertex, a
+// degenerate triangle that no ray hits (all three edge functions are 0).
+type triPack struct {
+	v     [9][4]float32 // rows x0 y0 z0 x1 y1 z1 x2 y2 z2
+	first int32         // index into Scene.tris of lane 0; lane l is first + l
+	_     [3]int32
+}
+
+// makePacks replaces the triangle ranges of the 8-wide leaves by ranges of
+// packs, in depth-first node order.
+func (s *Scene) makePacks() {
+	n8 := s.vec.n8
+	var packs []triPack
+	for i := range n8 {
+		for c, ref := range n8[i].child {
+			if ref >= 0 || ref == emptyChild {
+				continue
+			}
+			first := int(^ref >> leafCountBits)
+			count := int(^ref & (1<<leafCountBits - 1))
+			p0 := len(packs)
+			for k := 0; k < count; k += 4 {
+				var p triPack
+				p.first = int32(first + k)
+				for l := 0; l < 4; l++ {
+					t := &s.tris[first+k]
+					if k+l < count {
+						t = &s.tris[first+k+l]
+					}
+					for r := 0; r < 9; r++ {
+						p.v[r][l] = t[r]
+						if k+l >= count {
+							p.v[r][l] = t[r%3] // vertex 0 three times
+						}
+					}
+				}
+				packs = append(packs, p)
+			}
+			n8[i].child[c] = ^(int32(p0)<<leafCountBits | int32(len(packs)-p0))
+		}
+	}
+	s.vec.packs = packs
+}
+
+// collapse makes the traversed tree from the binary one (after s.tris is
+// filled) and returns its node count: 8-wide for the vector loops when its traversal stack is big
 // enough (always, but for trees far deeper than any real mesh makes),
 // 4-wide otherwise.
 func (s *Scene) collapse(bin []bvhNode) int {
@@ -47,6 +95,7 @@ func (s *Scene) collapse(bin []bvhNode) int {
 		n8 := collapse8(bin)
 		if stackNeed8(n8, 0) <= wideStackSize8 {
 			s.vec.n8 = n8
+			s.makePacks()
 			return len(n8)
 		}
 	}

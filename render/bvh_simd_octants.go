@@ -1212,7 +1212,16 @@ func (s *Scene) traverseOctantVec8(q *rayQuery, anyHit bool) bool {
 // traverseVec80 is traverseOctantVec8 for rays of octant 0.
 func (s *Scene) traverseVec80(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -1286,42 +1295,50 @@ func (s *Scene) traverseVec80(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}
@@ -1343,7 +1360,16 @@ func (s *Scene) traverseVec80(q *rayQuery, anyHit bool) bool {
 // traverseVec81 is traverseOctantVec8 for rays of octant 1.
 func (s *Scene) traverseVec81(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -1417,42 +1443,50 @@ func (s *Scene) traverseVec81(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}
@@ -1474,7 +1508,16 @@ func (s *Scene) traverseVec81(q *rayQuery, anyHit bool) bool {
 // traverseVec82 is traverseOctantVec8 for rays of octant 2.
 func (s *Scene) traverseVec82(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -1548,42 +1591,50 @@ func (s *Scene) traverseVec82(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}
@@ -1605,7 +1656,16 @@ func (s *Scene) traverseVec82(q *rayQuery, anyHit bool) bool {
 // traverseVec83 is traverseOctantVec8 for rays of octant 3.
 func (s *Scene) traverseVec83(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -1679,42 +1739,50 @@ func (s *Scene) traverseVec83(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}
@@ -1736,7 +1804,16 @@ func (s *Scene) traverseVec83(q *rayQuery, anyHit bool) bool {
 // traverseVec84 is traverseOctantVec8 for rays of octant 4.
 func (s *Scene) traverseVec84(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -1810,42 +1887,50 @@ func (s *Scene) traverseVec84(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}
@@ -1867,7 +1952,16 @@ func (s *Scene) traverseVec84(q *rayQuery, anyHit bool) bool {
 // traverseVec85 is traverseOctantVec8 for rays of octant 5.
 func (s *Scene) traverseVec85(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -1941,42 +2035,50 @@ func (s *Scene) traverseVec85(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}
@@ -1998,7 +2100,16 @@ func (s *Scene) traverseVec85(q *rayQuery, anyHit bool) bool {
 // traverseVec86 is traverseOctantVec8 for rays of octant 6.
 func (s *Scene) traverseVec86(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -2072,42 +2183,50 @@ func (s *Scene) traverseVec86(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}
@@ -2129,7 +2248,16 @@ func (s *Scene) traverseVec86(q *rayQuery, anyHit bool) bool {
 // traverseVec87 is traverseOctantVec8 for rays of octant 7.
 func (s *Scene) traverseVec87(q *rayQuery, anyHit bool) bool {
 	nodes := s.vec.n8
-	tris := s.tris
+	packs := s.vec.packs
+	okx := archsimd.BroadcastFloat64x4(q.okx)
+	oky := archsimd.BroadcastFloat64x4(q.oky)
+	okz := archsimd.BroadcastFloat64x4(q.okz)
+	sx := archsimd.BroadcastFloat64x4(q.sx)
+	sy := archsimd.BroadcastFloat64x4(q.sy)
+	sz := archsimd.BroadcastFloat64x4(q.sz)
+	zero64 := archsimd.BroadcastFloat64x4(0)
+	tmax64 := archsimd.BroadcastFloat64x4(q.tmax)
+	var tt4, u4, v4, w4, det4 [4]float64
 	ox := archsimd.BroadcastFloat32x8(q.ox)
 	oy := archsimd.BroadcastFloat32x8(q.oy)
 	oz := archsimd.BroadcastFloat32x8(q.oz)
@@ -2203,42 +2331,50 @@ func (s *Scene) traverseVec87(q *rayQuery, anyHit bool) bool {
 				continue
 			}
 		} else {
-			first := ^ni >> leafCountBits
-			ts := tris[first : first+(^ni&(1<<leafCountBits-1))]
-			for i := range ts {
-				t := &ts[i]
-				// Woop et al. 2013: vertices relative to the origin,
-				// permuted, then sheared (eq. 2-4).
-				az := float64(t[kz]) - q.okz
-				bz := float64(t[3+kz]) - q.okz
-				cz := float64(t[6+kz]) - q.okz
-				ax := float64(t[kx]) - q.okx - q.sx*az
-				ay := float64(t[ky]) - q.oky - q.sy*az
-				bx := float64(t[3+kx]) - q.okx - q.sx*bz
-				by := float64(t[3+ky]) - q.oky - q.sy*bz
-				cx := float64(t[6+kx]) - q.okx - q.sx*cz
-				cy := float64(t[6+ky]) - q.oky - q.sy*cz
+			p0 := ^ni >> leafCountBits
+			ps := packs[p0 : p0+(^ni&(1<<leafCountBits-1))]
+			for pi := range ps {
+				p := &ps[pi]
+				// Vertices relative to the origin, permuted, then sheared (eq. 2-4).
+				az := archsimd.LoadFloat32x4(&p.v[kz]).ConvertToFloat64().Sub(okz)
+				bz := archsimd.LoadFloat32x4(&p.v[3+kz]).ConvertToFloat64().Sub(okz)
+				cz := archsimd.LoadFloat32x4(&p.v[6+kz]).ConvertToFloat64().Sub(okz)
+				ax := archsimd.LoadFloat32x4(&p.v[kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(az))
+				ay := archsimd.LoadFloat32x4(&p.v[ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(az))
+				bx := archsimd.LoadFloat32x4(&p.v[3+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(bz))
+				by := archsimd.LoadFloat32x4(&p.v[3+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(bz))
+				cx := archsimd.LoadFloat32x4(&p.v[6+kx]).ConvertToFloat64().Sub(okx).Sub(sx.Mul(cz))
+				cy := archsimd.LoadFloat32x4(&p.v[6+ky]).ConvertToFloat64().Sub(oky).Sub(sy.Mul(cz))
 				// Scaled barycentrics: 2D edge functions (eq. 5).
-				u := cx*by - cy*bx
-				v := ax*cy - ay*cx
-				w := bx*ay - by*ax
-				if min(u, v, w) < 0 && max(u, v, w) > 0 {
-					continue
-				}
-				det := u + v + w
-				if det == 0 {
-					continue
-				}
-				tt := (u*az + v*bz + w*cz) * q.sz / det
-				if !(tt > 0 && tt < q.tmax) {
+				u := cx.Mul(by).Sub(cy.Mul(bx))
+				v := ax.Mul(cy).Sub(ay.Mul(cx))
+				w := bx.Mul(ay).Sub(by.Mul(ax))
+				neg := u.Less(zero64).Or(v.Less(zero64)).Or(w.Less(zero64)).ToBits()
+				pos := u.Greater(zero64).Or(v.Greater(zero64)).Or(w.Greater(zero64)).ToBits()
+				det := u.Add(v).Add(w)
+				tt := u.Mul(az).Add(v.Mul(bz)).Add(w.Mul(cz)).Mul(sz).Div(det)
+				ok := det.NotEqual(zero64).And(tt.Greater(zero64)).And(tt.Less(tmax64)).ToBits() &^ (neg & pos)
+				if ok == 0 {
 					continue
 				}
 				if anyHit {
 					return true
 				}
-				q.hitIndex = first + int32(i)
-				q.u, q.v, q.w = u/det, v/det, w/det
-				q.setTmax(tt)
+				tt.Store(&tt4)
+				l := bits.TrailingZeros8(ok) & 3
+				for r := ok & (ok - 1); r != 0; r &= r - 1 {
+					if j := bits.TrailingZeros8(r) & 3; tt4[j] < tt4[l] {
+						l = j
+					}
+				}
+				u.Store(&u4)
+				v.Store(&v4)
+				w.Store(&w4)
+				det.Store(&det4)
+				q.hitIndex = p.first + int32(l)
+				q.u, q.v, q.w = u4[l]/det4[l], v4[l]/det4[l], w4[l]/det4[l]
+				q.setTmax(tt4[l])
+				tmax64 = archsimd.BroadcastFloat64x4(q.tmax)
 				tmaxb = math.Float32bits(q.tmax32)
 				tmaxv = archsimd.BroadcastFloat32x8(q.tmax32)
 			}

@@ -14,8 +14,8 @@ func TraversalPath() string { return "scalar" }
 // vectorNodes is empty: this build makes no tree for vector loops.
 type vectorNodes struct{}
 
-// collapse makes the traversed 4-wide tree from the binary one and returns
-// its node count.
+// collapse makes the traversed 4-wide tree from the binary one (after
+// s.tris is filled) and returns its node count.
 func (s *Scene) collapse(bin []bvhNode) int {
 	s.nodes, _ = collapseBVH(bin)
 	return len(s.nodes)

@@ -103,7 +103,6 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 		st.depth = 1
 		st.leaves = 1
 	}
-	nn := s.collapse(bd.nodes)
 	s.tris = make([]triVerts, nt)
 	s.triID = make([]int32, nt)
 	parallelFor(nt, threads, func(lo, hi int) {
@@ -118,6 +117,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 			}
 		}
 	})
+	nn := s.collapse(bd.nodes)
 	s.bounds = EmptyAABB()
 	if nt > 0 {
 		s.bounds = AABB{
