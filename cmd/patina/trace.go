@@ -210,6 +210,8 @@ func runTrace(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 		res.MRaysPerS = float64(res.Rays) / res.Seconds * 1e-6
 	}
 	if *asJSON {
+		// The JSON keys are fixed; the traversal loops go to stderr.
+		fmt.Fprintf(stderr, "trace: traversal %s\n", render.TraversalPath())
 		b, err := json.Marshal(res)
 		if err != nil {
 			return err
@@ -224,6 +226,7 @@ func runTrace(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	}
 	fmt.Fprintf(stdout, "mesh        %s: %d triangles, %d nodes, %d leaves, depth %d\n", *meshPath, bs.Triangles, bs.Nodes, bs.Leaves, bs.Depth)
 	fmt.Fprintf(stdout, "mode        %s, %d thread(s)\n", mode, *threads)
+	fmt.Fprintf(stdout, "traversal   %s\n", render.TraversalPath())
 	fmt.Fprintf(stdout, "rays        %d\n", res.Rays)
 	fmt.Fprintf(stdout, "hits        %d\n", res.Hits)
 	fmt.Fprintf(stdout, "sum_t       %.6f\n", res.SumT)
@@ -248,7 +251,8 @@ A ray file is a flat little-endian array of records of seven float32: origin
 x y z, unit direction x y z, tmax (+Inf allowed; with -occluded, the distance
 to the light). Prints rays, hits, sum_t (the sum of closest-hit distances;
 0 with -occluded), build_s, seconds and mrays_per_s; with -json one JSON
-object with exactly those keys.`,
+object with exactly those keys (the traversal loops in use, scalar or the
+vector ones of a GOEXPERIMENT=simd build, go to stderr).`,
 		run: runTrace,
 	})
 }
