@@ -23,6 +23,9 @@ const (
 	// and of testing a triangle (relative units).
 	sahTraversal = 2.0
 	sahIntersect = 1.0
+	// sahPack is the cost of testing a pack of four triangles at once (the
+	// vector build's leaves, bvh_simd.go).
+	sahPack = 1.5
 	// medianDepth is the depth from which every split is an object-median
 	// split, so that no input can make the tree deeper than the fixed
 	// traversal stack: depth <= medianDepth + log2(triangles) < stackSize.
@@ -224,6 +227,7 @@ func binRefsAxis(refs []primRef, m *binMap, a int, bins *[maxBins]bin) {
 }
 
 type builder struct {
+	packed  bool // leaves are tested in packs of four (packedLeaves)
 	refs    []primRef
 	nodes   []bvhNode // indexed by the range-derived base; compacted afterwards
 	threads int
@@ -332,6 +336,12 @@ func (bd *builder) build(lo, hi int, cb box32, base int, depth int, sc *buildScr
 			area := nodeBox.area()
 			leafCost := sahIntersect * float64(n)
 			splitCost := sahTraversal + sahIntersect*bestCost/area
+			if bd.packed {
+				// Leaves are tested in packs of four: a leaf costs its
+				// packs, the children about a quarter pack per triangle.
+				leafCost = sahPack * float64((n+3)/4)
+				splitCost = sahTraversal + sahPack/4*bestCost/area
+			}
 			if area == 0 {
 				splitCost = math.Inf(1)
 			}

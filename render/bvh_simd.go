@@ -33,6 +33,10 @@ func TraversalPath() string {
 	return "simd: 4-wide tree, Float32x4 box tests (GOEXPERIMENT=simd, AVX2)"
 }
 
+// packedLeaves reports whether NewScene builds for the 8-wide loop, whose
+// leaves are tested in packs of four.
+func packedLeaves() bool { return vectorTraversal && vectorWidth == 8 }
+
 // vectorNodes holds the 8-wide tree of a scene built for the vector loops
 // and its leaves' triangles in packs of four.
 type vectorNodes struct {
@@ -54,7 +58,15 @@ type triPack struct {
 // packs, in depth-first node order.
 func (s *Scene) makePacks() {
 	n8 := s.vec.n8
-	var packs []triPack
+	np := 0
+	for i := range n8 {
+		for _, ref := range n8[i].child {
+			if ref < 0 && ref != emptyChild {
+				np += (int(^ref&(1<<leafCountBits-1)) + 3) / 4
+			}
+		}
+	}
+	packs := make([]triPack, 0, np)
 	for i := range n8 {
 		for c, ref := range n8[i].child {
 			if ref >= 0 || ref == emptyChild {
@@ -91,7 +103,7 @@ func (s *Scene) makePacks() {
 // enough (always, but for trees far deeper than any real mesh makes),
 // 4-wide otherwise.
 func (s *Scene) collapse(bin []bvhNode) int {
-	if vectorTraversal && vectorWidth == 8 {
+	if packedLeaves() {
 		n8 := collapse8(bin)
 		if stackNeed8(n8, 0) <= wideStackSize8 {
 			s.vec.n8 = n8

@@ -11,6 +11,9 @@ const vectorTraversal = false
 // TraversalPath names the traversal loops queries use, for reports.
 func TraversalPath() string { return "scalar" }
 
+// packedLeaves is false: leaves are tested one triangle at a time.
+func packedLeaves() bool { return false }
+
 // vectorNodes is empty: this build makes no tree for vector loops.
 type vectorNodes struct{}
 

@@ -82,7 +82,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 	s := &Scene{mesh: m}
 	refs := make([]primRef, nt)
 	cb, all := parallelRefs(m, refs, threads)
-	bd := &builder{refs: refs, threads: threads}
+	bd := &builder{refs: refs, threads: threads, packed: packedLeaves()}
 	if threads > 1 {
 		bd.sem = make(chan struct{}, threads-1)
 	}
