@@ -55,46 +55,53 @@ type triPack struct {
 }
 
 // makePacks replaces the triangle ranges of the 8-wide leaves by ranges of
-// packs, in depth-first node order.
-func (s *Scene) makePacks() {
+// packs, in depth-first node order, filled on up to threads goroutines.
+func (s *Scene) makePacks(threads int) {
 	n8 := s.vec.n8
-	np := 0
+	// start[i] is the first pack of node i's leaves.
+	start := make([]int32, len(n8)+1)
 	for i := range n8 {
+		np := 0
 		for _, ref := range n8[i].child {
 			if ref < 0 && ref != emptyChild {
 				np += (int(^ref&(1<<leafCountBits-1)) + 3) / 4
 			}
 		}
+		start[i+1] = start[i] + int32(np)
 	}
-	packs := make([]triPack, 0, np)
-	for i := range n8 {
-		for c, ref := range n8[i].child {
-			if ref >= 0 || ref == emptyChild {
-				continue
-			}
-			first := int(^ref >> leafCountBits)
-			count := int(^ref & (1<<leafCountBits - 1))
-			p0 := len(packs)
-			for k := 0; k < count; k += 4 {
-				var p triPack
-				p.first = int32(first + k)
-				for l := 0; l < 4; l++ {
-					t := &s.tris[first+k]
-					if k+l < count {
-						t = &s.tris[first+k+l]
-					}
-					for r := 0; r < 9; r++ {
-						p.v[r][l] = t[r]
-						if k+l >= count {
-							p.v[r][l] = t[r%3] // vertex 0 three times
+	packs := make([]triPack, start[len(n8)])
+	parallelFor(len(n8), threads, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			next := int(start[i])
+			for c, ref := range n8[i].child {
+				if ref >= 0 || ref == emptyChild {
+					continue
+				}
+				first := int(^ref >> leafCountBits)
+				count := int(^ref & (1<<leafCountBits - 1))
+				p0 := next
+				for k := 0; k < count; k += 4 {
+					p := &packs[next]
+					next++
+					p.first = int32(first + k)
+					for l := 0; l < 4; l++ {
+						if k+l < count {
+							t := &s.tris[first+k+l]
+							for r := 0; r < 9; r++ {
+								p.v[r][l] = t[r]
+							}
+						} else {
+							t := &s.tris[first+k] // vertex 0 three times
+							for r := 0; r < 9; r++ {
+								p.v[r][l] = t[r%3]
+							}
 						}
 					}
 				}
-				packs = append(packs, p)
+				n8[i].child[c] = ^(int32(p0)<<leafCountBits | int32(next-p0))
 			}
-			n8[i].child[c] = ^(int32(p0)<<leafCountBits | int32(len(packs)-p0))
 		}
-	}
+	})
 	s.vec.packs = packs
 }
 
@@ -102,16 +109,16 @@ func (s *Scene) makePacks() {
 // filled) and returns its node count: 8-wide for the vector loops when its traversal stack is big
 // enough (always, but for trees far deeper than any real mesh makes),
 // 4-wide otherwise.
-func (s *Scene) collapse(bin []bvhNode) int {
+func (s *Scene) collapse(bin []bvhNode, threads int) int {
 	if packedLeaves() {
-		n8 := collapse8(bin)
+		n8 := collapse8(bin, threads)
 		if stackNeed8(n8, 0) <= wideStackSize8 {
 			s.vec.n8 = n8
-			s.makePacks()
+			s.makePacks(threads)
 			return len(n8)
 		}
 	}
-	s.nodes, _ = collapseBVH(bin)
+	s.nodes, _ = collapseBVH(bin, threads)
 	return len(s.nodes)
 }
 
@@ -144,63 +151,103 @@ type bvh8Node struct {
 }
 
 // collapse8 turns the binary tree into an 8-wide one in depth-first order
-// by the greedy SAH collapse of collapseWith: each node takes the two
+// by the greedy SAH collapse of collapseBVH: each node takes the two
 // children of a binary node and opens the inner child of largest surface
-// area until it has eight.
-func collapse8(bin []bvhNode) []bvh8Node {
-	out := make([]bvh8Node, 0, len(bin)/6+1)
-	var emit func(ref int32) int32
-	emit = func(ref int32) int32 {
-		var slots [8]wideSlot
-		two := binChildren(&bin[ref])
-		slots[0], slots[1] = two[0], two[1]
-		n := 2
-		for n < 8 {
-			best, bestArea := -1, -1.0
-			for i := 0; i < n; i++ {
-				if slots[i].ref < 0 {
+// area until it has eight. As collapseWith, it emits the root's subtrees on
+// up to threads goroutines and lays them out in the serial order.
+func collapse8(bin []bvhNode, threads int) []bvh8Node {
+	root := &collapser8{bin: bin, top: true}
+	root.emit(0)
+	subs := make([]collapser8, len(root.pend))
+	forEachParallel(len(subs), threads, func(k int) {
+		subs[k] = collapser8{bin: bin}
+		subs[k].emit(root.pend[k].ref)
+	})
+	total := 1
+	for k := range subs {
+		total += len(subs[k].out)
+	}
+	out := make([]bvh8Node, 1, total)
+	out[0] = root.out[0]
+	for k := range subs {
+		off := int32(len(out))
+		out[0].child[root.pend[k].slot] = off
+		for i := range subs[k].out {
+			nd := &subs[k].out[i]
+			for c, r := range nd.child {
+				if r >= 0 {
+					nd.child[c] = r + off
+				}
+			}
+		}
+		out = append(out, subs[k].out...)
+	}
+	return out
+}
+
+// collapser8 is collapser4 for the 8-wide tree (greedy only).
+type collapser8 struct {
+	bin  []bvhNode
+	out  []bvh8Node
+	top  bool
+	pend []pendingChild
+}
+
+func (c *collapser8) emit(ref int32) int32 {
+	bin := c.bin
+	top := c.top
+	c.top = false
+	var slots [8]wideSlot
+	two := binChildren(&bin[ref])
+	slots[0], slots[1] = two[0], two[1]
+	n := 2
+	for n < 8 {
+		best, bestArea := -1, -1.0
+		for i := 0; i < n; i++ {
+			if slots[i].ref < 0 {
+				continue
+			}
+			if a := slots[i].box.area(); a > bestArea {
+				best, bestArea = i, a
+			}
+		}
+		if best < 0 {
+			break
+		}
+		kids := binChildren(&bin[slots[best].ref])
+		copy(slots[best+2:n+1], slots[best+1:n])
+		slots[best], slots[best+1] = kids[0], kids[1]
+		n++
+	}
+	idx := int32(len(c.out))
+	c.out = append(c.out, bvh8Node{})
+	var refs [8]int32
+	for i := range refs {
+		refs[i] = emptyChild
+		if i < n {
+			refs[i] = slots[i].ref
+			if refs[i] >= 0 {
+				if top {
+					c.pend = append(c.pend, pendingChild{i, refs[i]})
 					continue
 				}
-				if a := slots[i].box.area(); a > bestArea {
-					best, bestArea = i, a
-				}
-			}
-			if best < 0 {
-				break
-			}
-			kids := binChildren(&bin[slots[best].ref])
-			copy(slots[best+2:n+1], slots[best+1:n])
-			slots[best], slots[best+1] = kids[0], kids[1]
-			n++
-		}
-		idx := int32(len(out))
-		out = append(out, bvh8Node{})
-		var refs [8]int32
-		for i := range refs {
-			refs[i] = emptyChild
-			if i < n {
-				refs[i] = slots[i].ref
-				if refs[i] >= 0 {
-					refs[i] = emit(refs[i])
-				}
+				refs[i] = c.emit(refs[i])
 			}
 		}
-		nd := &out[idx]
-		inf := float32(math.Inf(1))
-		for i := range refs {
-			b := box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}
-			if i < n {
-				b = slots[i].box
-			}
-			for a := 0; a < 3; a++ {
-				nd.box[a][i], nd.box[3+a][i] = b.lo[a], b.hi[a]
-			}
-			nd.child[i] = refs[i]
-		}
-		return idx
 	}
-	emit(0)
-	return out
+	nd := &c.out[idx]
+	inf := float32(math.Inf(1))
+	for i := range refs {
+		b := box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}
+		if i < n {
+			b = slots[i].box
+		}
+		for a := 0; a < 3; a++ {
+			nd.box[a][i], nd.box[3+a][i] = b.lo[a], b.hi[a]
+		}
+		nd.child[i] = refs[i]
+	}
+	return idx
 }
 
 // stackNeed8 is stackNeed for the 8-wide tree: a visit pushes at most seven

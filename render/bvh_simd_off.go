@@ -19,8 +19,8 @@ type vectorNodes struct{}
 
 // collapse makes the traversed 4-wide tree from the binary one (after
 // s.tris is filled) and returns its node count.
-func (s *Scene) collapse(bin []bvhNode) int {
-	s.nodes, _ = collapseBVH(bin)
+func (s *Scene) collapse(bin []bvhNode, threads int) int {
+	s.nodes, _ = collapseBVH(bin, threads)
 	return len(s.nodes)
 }
 

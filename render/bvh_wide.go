@@ -1,6 +1,10 @@
 package render
 
-import "math"
+import (
+	"math"
+	"sync"
+	"sync/atomic"
+)
 
 // The traversed hierarchy is 4-wide: the binary SAH tree is collapsed so
 // that each node holds the boxes of up to four children (Wald, Benthin,
@@ -37,10 +41,10 @@ const emptyChild = int32(-1)
 // than wideStackSize (only for trees far deeper than any real mesh makes),
 // it collapses again opening only whole levels, which halves the depth.
 // It returns the nodes and the depth of the 4-wide tree.
-func collapseBVH(bin []bvhNode) ([]bvh4Node, int) {
-	out, depth := collapseWith(bin, true)
+func collapseBVH(bin []bvhNode, threads int) ([]bvh4Node, int) {
+	out, depth := collapseWith(bin, true, threads)
 	if stackNeed(out, 0) > wideStackSize || levelCollapseOnly {
-		out, depth = collapseWith(bin, false)
+		out, depth = collapseWith(bin, false, threads)
 	}
 	return out, depth
 }
@@ -66,66 +70,139 @@ func binChildren(nd *bvhNode) [2]wideSlot {
 	return s
 }
 
-func collapseWith(bin []bvhNode, greedy bool) ([]bvh4Node, int) {
-	out := make([]bvh4Node, 0, len(bin)/2+1)
-	var emit func(ref int32, depth int) (int32, int)
-	emit = func(ref int32, depth int) (int32, int) {
-		var slots [4]wideSlot
-		var opened [4]bool // slot came from opening a child (not a child of the binary node itself)
-		two := binChildren(&bin[ref])
-		slots[0], slots[1] = two[0], two[1]
-		n := 2
-		for n < 4 {
-			best, bestArea := -1, -1.0
-			for i := 0; i < n; i++ {
-				if slots[i].ref < 0 || (!greedy && opened[i]) {
+// collapser4 emits the 4-wide collapse of a binary subtree depth-first
+// into out. With top set, the first node emitted leaves its inner children
+// pending (recorded in pend) for other collapsers to emit.
+type collapser4 struct {
+	bin    []bvhNode
+	greedy bool
+	out    []bvh4Node
+	top    bool
+	pend   []pendingChild
+}
+
+// pendingChild is an inner child slot of a tree's root whose subtree is
+// emitted separately.
+type pendingChild struct {
+	slot int
+	ref  int32 // binary node
+}
+
+func (c *collapser4) emit(ref int32, depth int) (int32, int) {
+	bin, greedy := c.bin, c.greedy
+	top := c.top
+	c.top = false
+	var slots [4]wideSlot
+	var opened [4]bool // slot came from opening a child (not a child of the binary node itself)
+	two := binChildren(&bin[ref])
+	slots[0], slots[1] = two[0], two[1]
+	n := 2
+	for n < 4 {
+		best, bestArea := -1, -1.0
+		for i := 0; i < n; i++ {
+			if slots[i].ref < 0 || (!greedy && opened[i]) {
+				continue
+			}
+			if a := slots[i].box.area(); a > bestArea {
+				best, bestArea = i, a
+			}
+		}
+		if best < 0 {
+			break
+		}
+		kids := binChildren(&bin[slots[best].ref])
+		copy(slots[best+2:n+1], slots[best+1:n])
+		slots[best], slots[best+1] = kids[0], kids[1]
+		copy(opened[best+2:n+1], opened[best+1:n])
+		opened[best], opened[best+1] = true, true
+		n++
+	}
+	idx := int32(len(c.out))
+	c.out = append(c.out, bvh4Node{})
+	var refs [4]int32
+	maxDepth := depth + 1
+	for i := 0; i < 4; i++ {
+		refs[i] = emptyChild
+		if i < n {
+			refs[i] = slots[i].ref
+			if refs[i] >= 0 {
+				if top {
+					c.pend = append(c.pend, pendingChild{i, refs[i]})
 					continue
 				}
-				if a := slots[i].box.area(); a > bestArea {
-					best, bestArea = i, a
-				}
-			}
-			if best < 0 {
-				break
-			}
-			kids := binChildren(&bin[slots[best].ref])
-			copy(slots[best+2:n+1], slots[best+1:n])
-			slots[best], slots[best+1] = kids[0], kids[1]
-			copy(opened[best+2:n+1], opened[best+1:n])
-			opened[best], opened[best+1] = true, true
-			n++
-		}
-		idx := int32(len(out))
-		out = append(out, bvh4Node{})
-		var refs [4]int32
-		maxDepth := depth + 1
-		for i := 0; i < 4; i++ {
-			refs[i] = emptyChild
-			if i < n {
-				refs[i] = slots[i].ref
-				if refs[i] >= 0 {
-					var d int
-					refs[i], d = emit(refs[i], depth+1)
-					maxDepth = max(maxDepth, d)
-				}
+				var d int
+				refs[i], d = c.emit(refs[i], depth+1)
+				maxDepth = max(maxDepth, d)
 			}
 		}
-		nd := &out[idx]
-		inf := float32(math.Inf(1))
-		for i := 0; i < 4; i++ {
-			b := box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}
-			if i < n {
-				b = slots[i].box
-			}
-			for a := 0; a < 3; a++ {
-				nd.box[a][i], nd.box[3+a][i] = b.lo[a], b.hi[a]
-			}
-			nd.child[i] = refs[i]
-		}
-		return idx, maxDepth
 	}
-	_, depth := emit(0, 0)
+	nd := &c.out[idx]
+	inf := float32(math.Inf(1))
+	for i := 0; i < 4; i++ {
+		b := box32{[3]float32{inf, inf, inf}, [3]float32{-inf, -inf, -inf}}
+		if i < n {
+			b = slots[i].box
+		}
+		for a := 0; a < 3; a++ {
+			nd.box[a][i], nd.box[3+a][i] = b.lo[a], b.hi[a]
+		}
+		nd.child[i] = refs[i]
+	}
+	return idx, maxDepth
+}
+
+// collapseWith emits the root, then the subtrees of its inner children on
+// up to threads goroutines, and lays those out after the root in slot
+// order: the serial depth-first order, so the tree does not depend on the
+// thread count.
+func collapseWith(bin []bvhNode, greedy bool, threads int) ([]bvh4Node, int) {
+	root := &collapser4{bin: bin, greedy: greedy, top: true}
+	root.emit(0, 0)
+	subs := make([]collapser4, len(root.pend))
+	depths := make([]int, len(root.pend))
+	forEachParallel(len(subs), threads, func(k int) {
+		subs[k] = collapser4{bin: bin, greedy: greedy}
+		_, depths[k] = subs[k].emit(root.pend[k].ref, 1)
+	})
+	total := 1
+	for k := range subs {
+		total += len(subs[k].out)
+	}
+	out := make([]bvh4Node, 1, total)
+	out[0] = root.out[0]
+	depth := 1
+	for k := range subs {
+		off := int32(len(out))
+		out[0].child[root.pend[k].slot] = off
+		for i := range subs[k].out {
+			nd := &subs[k].out[i]
+			for c, r := range nd.child {
+				if r >= 0 {
+					nd.child[c] = r + off
+				}
+			}
+		}
+		out = append(out, subs[k].out...)
+		depth = max(depth, depths[k])
+	}
 	return out, depth
+}
+
+// forEachParallel runs body(0..n-1) on up to threads goroutines, each
+// taking the next index.
+func forEachParallel(n, threads int, body func(k int)) {
+	var next atomic.Int32
+	var wg sync.WaitGroup
+	for g := 0; g < max(1, min(threads, n)); g++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := int(next.Add(1)) - 1; k < n; k = int(next.Add(1)) - 1 {
+				body(k)
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 // stackNeed returns the most stack entries a traversal below node ni can

@@ -117,7 +117,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 			}
 		}
 	})
-	nn := s.collapse(bd.nodes)
+	nn := s.collapse(bd.nodes, threads)
 	s.bounds = EmptyAABB()
 	if nt > 0 {
 		s.bounds = AABB{
