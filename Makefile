@@ -25,6 +25,8 @@ demo: build
 
 test: deps vet fmt-check
 	$(GO) test -timeout 20m ./...
+	@# The BVH's vector loops (GOEXPERIMENT=simd build; the tests there also rerun the scalar ones).
+	GOEXPERIMENT=simd $(GO) test -timeout 10m -run 'BVH|Watertight|HitAgainst|Degenerate|LevelCollapse|BuildDeterministic|OtherLoops|Cast|Embree|NewScene|NextUp|Generated' ./render/
 	@if [ "$${CI:-}" = "true" ] || command -v Xvfb >/dev/null 2>&1; then $(MAKE) --no-print-directory gui-shot; \
 	else echo "gui-shot: Xvfb not installed, workbench screenshots skipped (make deps installs it)"; fi
 
@@ -35,6 +37,7 @@ gui-shot: build
 
 vet:
 	$(GO) vet ./...
+	GOEXPERIMENT=simd $(GO) vet ./render/
 
 fmt-check:
 	@out=$$(gofmt -l $$(git ls-files '*.go' 2>/dev/null || find . -name '*.go')); \
