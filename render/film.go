@@ -22,7 +22,9 @@ const MaxFilmPixels = 32 << 20
 // [x-0.5, x+0.5) x [y-0.5, y+0.5).
 type Film struct {
 	Width, Height int
-	// SPP is the number of samples every pixel has received so far.
+	// SPP is the number of samples every pixel has received so far; with
+	// adaptive sampling (Settings.Adaptive), the most any pixel has, and
+	// Samples gives each pixel's own count.
 	SPP int
 	// Rays counts the rays traced so far (closest-hit and shadow queries),
 	// for throughput figures.
@@ -30,6 +32,9 @@ type Film struct {
 	sum   []float64 // 3 per pixel: sum of radiance
 	sumSq []float64 // 3 per pixel: sum of squared radiance
 	alpha []float64 // 1 per pixel: sum of coverage
+	// count is the number of samples of each pixel with adaptive
+	// sampling; nil when every pixel has SPP.
+	count []int32
 }
 
 // NewFilm allocates an empty film of w x h pixels.
@@ -50,29 +55,51 @@ func (f *Film) add(i int, L brdf.RGB, a float64) {
 		q[c] += L[c] * L[c]
 	}
 	f.alpha[i] += a
+	if f.count != nil {
+		f.count[i]++
+	}
 }
+
+// samples is the number of samples pixel index i has received.
+func (f *Film) samples(i int) int {
+	if f.count != nil {
+		return int(f.count[i])
+	}
+	return f.SPP
+}
+
+// Samples returns the number of samples pixel (x, y) has received: SPP,
+// or with adaptive sampling its own count.
+func (f *Film) Samples(x, y int) int { return f.samples(y*f.Width + x) }
+
+// Adaptive reports whether the film's pixels may have different sample
+// counts (Settings.Adaptive).
+func (f *Film) Adaptive() bool { return f.count != nil }
 
 // Pixel returns the mean radiance of pixel (x, y) (premultiplied by its
 // coverage) and its coverage alpha in [0,1] (the fraction of samples that
 // hit the object; 1 everywhere unless the background is transparent).
 func (f *Film) Pixel(x, y int) (L brdf.RGB, alpha float64) {
-	if f.SPP == 0 {
+	i := y*f.Width + x
+	n := f.samples(i)
+	if n == 0 {
 		return L, 0
 	}
-	i := y*f.Width + x
-	inv := 1 / float64(f.SPP)
+	inv := 1 / float64(n)
 	return brdf.RGB{f.sum[3*i] * inv, f.sum[3*i+1] * inv, f.sum[3*i+2] * inv}, f.alpha[i] * inv
 }
 
 // Variance returns the estimated variance of pixel (x, y)'s mean per
 // channel: the sample variance of its samples divided by their number (the
 // square of the standard error). It is +Inf with fewer than two samples.
-func (f *Film) Variance(x, y int) brdf.RGB {
-	n := float64(f.SPP)
-	if f.SPP < 2 {
+func (f *Film) Variance(x, y int) brdf.RGB { return f.variance(y*f.Width + x) }
+
+func (f *Film) variance(i int) brdf.RGB {
+	k := f.samples(i)
+	n := float64(k)
+	if k < 2 {
 		return brdf.RGB{math.Inf(1), math.Inf(1), math.Inf(1)}
 	}
-	i := y*f.Width + x
 	var v brdf.RGB
 	for c := 0; c < 3; c++ {
 		m := f.sum[3*i+c] / n
@@ -87,6 +114,17 @@ func (f *Film) Variance(x, y int) brdf.RGB {
 // writers.
 func (f *Film) RGB() []float32 {
 	out := make([]float32, 3*f.Width*f.Height)
+	if f.count != nil {
+		for i, n := range f.count {
+			if n > 0 {
+				inv := 1 / float64(n)
+				for c := 3 * i; c < 3*i+3; c++ {
+					out[c] = float32(f.sum[c] * inv)
+				}
+			}
+		}
+		return out
+	}
 	if f.SPP == 0 {
 		return out
 	}
@@ -100,12 +138,10 @@ func (f *Film) RGB() []float32 {
 // Alpha returns the coverage of every pixel, row by row from the top.
 func (f *Film) Alpha() []float32 {
 	out := make([]float32, f.Width*f.Height)
-	if f.SPP == 0 {
-		return out
-	}
-	inv := 1 / float64(f.SPP)
 	for i, v := range f.alpha {
-		out[i] = float32(v * inv)
+		if n := f.samples(i); n > 0 {
+			out[i] = float32(v * (1 / float64(n)))
+		}
 	}
 	return out
 }

@@ -93,6 +93,9 @@ type Settings struct {
 	// and Robust Light Transport", Computer Graphics Forum 32(2), 2013).
 	// 0 means no clamp.
 	IndirectClamp float64
+	// Adaptive, if set, lets each pixel stop taking samples before SPP
+	// once its own noise is low enough (see Adaptive).
+	Adaptive *Adaptive
 	// OnPass, if set, is called after each progressive pass (1, 2, 4, ...
 	// samples per pixel, ending at SPP) on the goroutine that called
 	// Render, with the film as it stands; the film must not be kept or
@@ -102,6 +105,44 @@ type Settings struct {
 	// number of pixel samples done and the total; calls are serialised but
 	// come from worker goroutines, so keep it quick.
 	OnProgress func(done, total int64)
+}
+
+// Adaptive is per-pixel adaptive sampling: pixels whose samples vary
+// little stop early, and the samples go where the noise is.
+//
+// Passes run as without it (1, 2, 4, ... samples per pixel, with one
+// ending at MinSPP). After every pass that ends at MinSPP or more, each
+// pixel's per-sample variance s^2 (Film.Variance times its samples, mean
+// of the channels) is taken as the larger of its own and the mean over its
+// 3x3 neighbourhood, and the pixel is allotted N = ceil(s^2 / Variance)
+// samples in all, at least MinSPP and at most Settings.SPP; later passes
+// take it only up to N. The neighbourhood guards against a pixel stopping
+// because its few samples have not yet met a rare bright path that its
+// neighbours' have. Every decision is made between passes from the film,
+// so the image is still a function of the seed alone, whatever the number
+// of threads, and a pixel given n samples has exactly the value it has in
+// a render of n samples per pixel.
+//
+// A pixel stopped because its estimated variance is small is, on average,
+// one whose samples happened to spread less, so its estimate errs low: the
+// stopping rule's bias (common knowledge of sequential estimation); the
+// floor MinSPP and the neighbourhood keep it small.
+type Adaptive struct {
+	// MinSPP is the fewest samples any pixel gets (at least 2: the
+	// variance needs two).
+	MinSPP int
+	// Variance is the wanted variance of a pixel's mean (the square of
+	// its standard error, mean of the channels, in radiance squared).
+	Variance float64
+	// Radius is the half-width of the neighbourhood; 0 means 1 (3x3).
+	Radius int
+}
+
+func (a *Adaptive) radius() int {
+	if a.Radius <= 0 {
+		return 1
+	}
+	return a.Radius
 }
 
 // Pass describes the film after one progressive pass.
@@ -141,6 +182,9 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 	if s.SPP < 0 || s.MaxDepth < 0 || s.RouletteDepth < 0 || s.Threads < 0 || s.TileSize < 0 {
 		return nil, fmt.Errorf("render: negative setting (spp %d, depth %d, roulette %d, threads %d, tile %d)", s.SPP, s.MaxDepth, s.RouletteDepth, s.Threads, s.TileSize)
 	}
+	if a := s.Adaptive; a != nil && (a.MinSPP < 2 || !(a.Variance > 0) || math.IsInf(a.Variance, 1)) {
+		return nil, fmt.Errorf("render: adaptive sampling with at least %d samples to variance %v: expected at least 2 samples and a finite positive variance", a.MinSPP, a.Variance)
+	}
 	if s.Strategy > LightOnly {
 		return nil, fmt.Errorf("render: unknown strategy %d", s.Strategy)
 	}
@@ -168,6 +212,9 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 		return nil, err
 	}
 	it := &integrator{sc: sc, cam: cam, lights: lights.Lights, env: lights.Environment, mats: materials, s: s}
+	if s.Adaptive != nil {
+		film.count = make([]int32, w*h)
+	}
 	for i := range it.lights {
 		if it.lights[i].area() {
 			it.areas = append(it.areas, i)
@@ -184,6 +231,9 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 
 	for pass, spp0 := 0, 0; spp0 < s.SPP; pass++ {
 		spp1 := min(max(1, 2*spp0), s.SPP)
+		if a := s.Adaptive; a != nil && spp0 < a.MinSPP && spp1 > a.MinSPP {
+			spp1 = a.MinSPP
+		}
 		var next atomic.Int64
 		var wg sync.WaitGroup
 		var errMu sync.Mutex
@@ -204,7 +254,8 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 					}
 					x0, y0 := (k%tilesX)*ts, (k/tilesX)*ts
 					x1, y1 := min(x0+ts, w), min(y0+ts, h)
-					if err := it.tile(ctx, film, &smp, x0, y0, x1, y1, spp0, spp1); err != nil {
+					taken, err := it.tile(ctx, film, &smp, x0, y0, x1, y1, spp0, spp1)
+					if err != nil {
 						stop.Store(true)
 						errMu.Lock()
 						if failed == nil {
@@ -214,7 +265,7 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 						return
 					}
 					if s.OnProgress != nil {
-						n := done.Add(int64(x1-x0) * int64(y1-y0) * int64(spp1-spp0))
+						n := done.Add(taken)
 						progMu.Lock()
 						s.OnProgress(n, total)
 						progMu.Unlock()
@@ -236,8 +287,71 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 			s.OnPass(Pass{Index: pass, SPP: spp1, Film: film, Elapsed: time.Since(start)})
 		}
 		spp0 = spp1
+		if a := s.Adaptive; a != nil && spp1 >= a.MinSPP && spp1 < s.SPP {
+			var more int64
+			it.goal, more = allot(film, it.goal, a, s.SPP)
+			if more == 0 {
+				break
+			}
+			total = done.Load() + more
+		}
 	}
 	return film, nil
+}
+
+// allot sets every pixel's sample goal by Adaptive's rule from the film
+// as it stands (into goal, allocated if nil) and returns the goals and
+// the number of samples still to take.
+func allot(f *Film, goal []int32, a *Adaptive, maxSPP int) ([]int32, int64) {
+	w, h := f.Width, f.Height
+	if goal == nil {
+		goal = make([]int32, w*h)
+	}
+	// Per-sample variance of every pixel, mean of the channels.
+	s2 := make([]float64, w*h)
+	for i := range s2 {
+		v := f.variance(i)
+		s2[i] = (v[0] + v[1] + v[2]) / 3 * float64(f.samples(i))
+		if math.IsNaN(s2[i]) || math.IsInf(s2[i], 0) {
+			s2[i] = math.Inf(1)
+		}
+	}
+	// Mean over the (2r+1)^2 neighbourhood, clipped at the borders:
+	// box sums along rows, then along columns.
+	r := a.radius()
+	row := make([]float64, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			var sum float64
+			for xx := max(0, x-r); xx <= min(w-1, x+r); xx++ {
+				sum += s2[y*w+xx]
+			}
+			row[y*w+x] = sum
+		}
+	}
+	var more int64
+	for y := 0; y < h; y++ {
+		ny := min(h-1, y+r) - max(0, y-r) + 1
+		for x := 0; x < w; x++ {
+			var sum float64
+			for yy := max(0, y-r); yy <= min(h-1, y+r); yy++ {
+				sum += row[yy*w+x]
+			}
+			n := ny * (min(w-1, x+r) - max(0, x-r) + 1)
+			i := y*w + x
+			v := math.Max(s2[i], sum/float64(n))
+			g := float64(maxSPP)
+			if want := math.Ceil(v / a.Variance); want < g {
+				g = want
+			}
+			gi := int32(max(a.MinSPP, int(g)))
+			goal[i] = gi
+			if c := f.count[i]; gi > c {
+				more += int64(gi - c)
+			}
+		}
+	}
+	return goal, more
 }
 
 // integrator holds what every path of one render shares.
@@ -250,30 +364,43 @@ type integrator struct {
 	mats   []brdf.Params
 	s      Settings
 	rays   atomic.Int64 // rays traced (closest-hit and shadow)
+	// goal is every pixel's allotted samples with adaptive sampling,
+	// nil before the first allotment.
+	goal []int32
 }
 
-// tile renders samples [spp0, spp1) of every pixel of a tile, in sample
-// order per pixel, so the sums are independent of scheduling.
-func (it *integrator) tile(ctx context.Context, film *Film, smp *Sampler, x0, y0, x1, y1, spp0, spp1 int) error {
+// tile renders samples [spp0, spp1) of every pixel of a tile (with
+// adaptive sampling, from the pixel's count up to its goal), in sample
+// order per pixel, so the sums are independent of scheduling. It returns
+// the number of samples taken.
+func (it *integrator) tile(ctx context.Context, film *Film, smp *Sampler, x0, y0, x1, y1, spp0, spp1 int) (taken int64, err error) {
 	var rays int64
 	defer func() { it.rays.Add(rays) }()
 	for y := y0; y < y1; y++ {
 		if ctx.Err() != nil {
-			return nil
+			return taken, nil
 		}
 		for x := x0; x < x1; x++ {
 			i := y*film.Width + x
-			for k := spp0; k < spp1; k++ {
+			k0, k1 := spp0, spp1
+			if film.count != nil {
+				k0 = int(film.count[i])
+				if it.goal != nil {
+					k1 = min(k1, int(it.goal[i]))
+				}
+			}
+			for k := k0; k < k1; k++ {
 				smp.Start(it.s.Seed, x, y, uint32(k))
 				L, a, err := it.sample(smp, x, y, &rays)
 				if err != nil {
-					return err
+					return taken, err
 				}
 				film.add(i, L, a)
+				taken++
 			}
 		}
 	}
-	return nil
+	return taken, nil
 }
 
 // powerHeuristic is Veach's power heuristic with beta = 2 for a sample

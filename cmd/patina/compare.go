@@ -46,8 +46,8 @@ as the capture lists it) renders that photo's view under its lights with the
 materials of -materials, on the fit's radiometric scale, and compares it
 with the photo where the mesh is seen, the photo's mask keeps the pixel and
 nothing is saturated. -spp 0 (default) chooses the samples per pixel so that
-the render's noise stays below half the photo's own (see 'patina help
-report'); -depth (default 4) bounds the bounces; -seed picks the random
+the render's noise stays below half the photo's own, each pixel stopping
+once its own noise is low enough (see 'patina help report'); -depth (default 4) bounds the bounces; -seed picks the random
 sequence.
 
 With -o PREFIX the maps are written (atomically) as PREFIX-deltae.png (the
@@ -192,8 +192,12 @@ func runCompare(ctx context.Context, args []string, stdout, stderr io.Writer) er
 			return err
 		}
 		res, maps = ho.Result, ho.Maps
-		what = fmt.Sprintf("photo %d (%s) of %s against a simulation of its view (%d spp, seed %d, at most %d bounces)",
-			ho.Photo, ho.File, *capPath, ho.Sampler.SPP, ho.Seed, ho.MaxDepth)
+		spp := fmt.Sprintf("%d spp", ho.Sampler.SPP)
+		if ho.Sampler.Adaptive {
+			spp = fmt.Sprintf("%.1f spp on average, %d..%d", ho.Sampler.MeanSPP, ho.Sampler.PixelMinSPP, ho.Sampler.SPP)
+		}
+		what = fmt.Sprintf("photo %d (%s) of %s against a simulation of its view (%s, seed %d, at most %d bounces)",
+			ho.Photo, ho.File, *capPath, spp, ho.Seed, ho.MaxDepth)
 	default:
 		if *renderPath == "" || *photoPath == "" {
 			return badInputf("compare: give -render R and -photo P, or -capture C -photo-id N -materials M (see 'patina help compare')")

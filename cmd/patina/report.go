@@ -20,7 +20,7 @@ import (
 )
 
 const reportUsage = `patina report CAPTURE.json -materials M.json [-o report.html] [-spp N] [-min-spp N] [-max-spp N]
-       [-noise-ratio R] [-indirect-clamp F] [-depth D] [-tolerance NAME] [-seed S] [-threads N] [-progress auto|always|never]
+       [-noise-ratio R] [-uniform] [-pixel-min-spp N] [-indirect-clamp F] [-depth D] [-tolerance NAME] [-seed S] [-threads N] [-progress auto|always|never]
 
 Proves the materials file against the capture's holdout photos: renders the
 view of every photo marked "holdout" under its lights with the fitted
@@ -36,10 +36,14 @@ holding the SHA-256 of both. Every file is written atomically.
 
 -spp 0 (the default) chooses the samples per pixel of each render so that
 its noise is below -noise-ratio (default 0.5) times the photo's own on the
-typical pixel: a pilot render of a few thousand pixels measures the render's
-noise, the photo's is estimated with Immerkaer's operator, and the render
+typical pixel: a pilot of eight independent renders of a few thousand
+pixels measures the render's noise from the spread of each pixel's eight
+means, the photo's is estimated with Immerkaer's operator, and the render
 gets the samples the ratio needs, at least -min-spp (default 16) and at most
--max-spp (default 64; the page says when the cap bound).
+-max-spp (default 64; the page says when the cap bound). That count is each
+pixel's most: a pixel stops sooner, after at least -pixel-min-spp samples
+(default 8), once its own noise (or its neighbours', if larger) is below the
+target; -uniform gives every pixel the full count.
 -indirect-clamp F bounds what one path sample may add through two or more
 scatterings to F times the photo's full scale (default 0.25; negative: no
 clamp): caustic light that a photograph averages smoothly shows in a render
@@ -136,6 +140,8 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	maxSPP := fs.Int("max-spp", report.DefaultMaxSPP, "largest samples per pixel the noise rule may choose")
 	minSPP := fs.Int("min-spp", report.MinSPP, "fewest samples per pixel the noise rule may choose")
 	ratio := fs.Float64("noise-ratio", report.DefaultNoiseRatio, "wanted ratio of the render's noise to the photo's")
+	uniform := fs.Bool("uniform", false, "give every pixel the noise rule's samples (no adaptive stopping)")
+	pixelMin := fs.Int("pixel-min-spp", report.PixelMinSPP, "fewest samples of any pixel with adaptive stopping")
 	clamp := fs.Float64("indirect-clamp", report.DefaultIndirectClamp, "bound on one sample's light of two or more scatterings, as a fraction of the photo's full scale (negative: none)")
 	depth := fs.Int("depth", report.DefaultMaxDepth, "largest number of scattering events")
 	tolName := fs.String("tolerance", metrics.FADGI3Star.Name, "tolerance preset")
@@ -166,9 +172,12 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 	if st, err := os.Stat(filepath.Dir(*out)); err != nil || !st.IsDir() {
 		return badInputf("report: -o %s: the directory %s does not exist", *out, filepath.Dir(*out))
 	}
-	opts := report.Options{SPP: *spp, MinSPP: *minSPP, MaxSPP: *maxSPP, NoiseRatio: *ratio, IndirectClamp: *clamp, MaxDepth: *depth, Seed: *seed, Threads: *threads, Tolerance: tol}
+	opts := report.Options{SPP: *spp, MinSPP: *minSPP, MaxSPP: *maxSPP, NoiseRatio: *ratio, Uniform: *uniform, PixelMinSPP: *pixelMin, IndirectClamp: *clamp, MaxDepth: *depth, Seed: *seed, Threads: *threads, Tolerance: tol}
 	if *minSPP < report.LowestMinSPP {
 		return badInputf("report: -min-spp %d: expected %d..%d", *minSPP, report.LowestMinSPP, report.MaxSPPLimit)
+	}
+	if *pixelMin < report.LowestMinSPP {
+		return badInputf("report: -pixel-min-spp %d: expected %d..%d", *pixelMin, report.LowestMinSPP, report.MaxSPPLimit)
 	}
 	if !(*ratio > 0) || math.IsInf(*ratio, 0) {
 		return badInputf("report: -noise-ratio %v: expected a finite value above 0", *ratio)
@@ -206,8 +215,12 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) err
 		return err
 	}
 	for i, h := range rep.Holdouts {
-		fmt.Fprintf(stdout, "%d. %s: %d px, %d spp, mean dE00 %.2f, p95 %.2f, max %.2f, PSNR sRGB %.2f dB, SSIM %.4f: %s\n",
-			i+1, h.File, h.Metrics.Pixels, h.Sampling.SPP, h.Metrics.DE2000Mean, h.Metrics.DE2000P95, h.Metrics.DE2000Max,
+		spp := fmt.Sprintf("%d spp", h.Sampling.SPP)
+		if h.Sampling.Adaptive {
+			spp = fmt.Sprintf("%.1f spp (mean; %d..%d)", h.Sampling.MeanSPP, h.Sampling.PixelMinSPP, h.Sampling.SPP)
+		}
+		fmt.Fprintf(stdout, "%d. %s: %d px, %s, mean dE00 %.2f, p95 %.2f, max %.2f, PSNR sRGB %.2f dB, SSIM %.4f: %s\n",
+			i+1, h.File, h.Metrics.Pixels, spp, h.Metrics.DE2000Mean, h.Metrics.DE2000P95, h.Metrics.DE2000Max,
 			h.Metrics.PSNRSRGB, h.Metrics.SSIM, h.Verdict.Text)
 	}
 	fmt.Fprintln(stdout, rep.Summary.Text)

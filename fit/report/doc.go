@@ -34,32 +34,56 @@
 //     6 sigma; the median absolute response over the pixels whose whole
 //     3x3 neighbourhood is compared, divided by 6 x 0.6745, gives sigma_p
 //     robustly (edges and texture are a minority of pixels).
-//  2. Render a pilot: PilotSPP (64) samples of at most PilotPixels (4096)
-//     of the same pixels, every k-th in row order so that they spread over
-//     the view, gathered into a compact film. Take the median over them of
-//     the per-sample variance s^2 (Film.Variance times the samples, mean of
-//     the channels, times the radiometric scale squared) and the wanted
-//     count N = ceil(s^2 / (r sigma_p)^2) with r = Options.NoiseRatio
+//  2. Render a pilot: PilotReplicates (8) independent renders of PilotSPP
+//     (8) samples each of at most PilotPixels (4096) of the same pixels,
+//     every k-th in row order so that they spread over the view, gathered
+//     into a compact film (each copy at other film coordinates, so with
+//     other scrambling seeds). The spread of a pixel's eight means is its
+//     error variance V_j at PilotSPP samples (mean of the channels, times
+//     the radiometric scale squared). Take s^2 = median(V_j) PilotSPP,
+//     divided by the median of a chi-square variable with 7 degrees of
+//     freedom over 7 (0.908, Wilson and Hilferty's approximation), and the
+//     wanted count N = ceil(s^2 / (r sigma_p)^2) with r = Options.NoiseRatio
 //     (default 0.5).
 //  3. Render every pixel that can see the mesh with N samples, but at
 //     least Options.MinSPP (default MinSPP, 16) and at most Options.MaxSPP
 //     (default 64, to keep a report to minutes), in which case the report
 //     says that the rule was not met and by how much. The typical pixel's
-//     standard error is then at most r times the photo's noise; with r = 0.5
+//     standard error is then about r times the photo's noise; with r = 0.5
 //     it adds about 12 % to the noise of the difference (sqrt(1 + 0.25) =
 //     1.118).
+//  4. Unless Options.Uniform, N is each pixel's most rather than its
+//     count (render.Adaptive): after at least Options.PixelMinSPP (default
+//  8. samples, and between the renderer's passes, a pixel stops once
+//     its own per-sample variance over its samples (or the mean of its
+//     3x3 neighbourhood's, if larger) is below (r sigma_p)^2. Quiet pixels
+//     (direct light on a matte surface) stop early, the noisy ones (indirect
+//     light) get all N.
+//
+// The render noise the report gives is measured by the pilot, not by the
+// render: the median over the pilot's pixels of V_j PilotSPP / n_j, n_j
+// the samples pixel j got, with the same chi-square correction, and the
+// root mean square without it. The pilot's replicates measure the error
+// the renderer's sampler really makes. A film's own variance estimate
+// treats a pixel's samples as independent, but the scrambled Sobol points
+// are stratified: on the small demo capture's four views the replicates'
+// spread at 16 samples was 0.35 to 0.47 of that estimate, at 32 samples
+// 0.29 to 0.38. The error falls faster than 1/N, so the rule's
+// extrapolation from PilotSPP samples errs on the noisy side, and
+// PixelMinSPP is PilotSPP so that no pixel is extrapolated downwards. With
+// adaptive stopping, pixels whose noise estimate came out low stop a
+// little early, and the typical pixel's measured ratio can end slightly
+// above r (0.52 to 0.54 against 0.5 on the small demo); the report gives
+// the measured ratio beside the target.
 //
 // The median, like the photo's estimate, so that both describe the typical
 // pixel. The pilot takes many samples of few pixels because the samples of
 // indirect light are heavy-tailed: with few samples most pixels have not yet
-// met a rare bright path and their spread looks too small. Measured on the
-// small demo capture's four views, the median per-sample variance from 16
-// samples was 1.5 to 6 times lower than from 64, and from 256 it was another
-// 1.4 to 1.7 times higher: the estimate from 64 still errs low, and the
-// floor of 16 samples keeps views whose estimate is small from being
-// rendered with a handful. The rare bright paths themselves ("fireflies")
-// are not held to the rule; their share shows in the root-mean-square noise
-// the report gives beside the median, and as isolated pixels in the maps.
+// met a rare bright path and their spread looks too small. The floor of 16
+// samples keeps views whose estimate is small from being rendered with a
+// handful. The rare bright paths themselves ("fireflies") are not held to
+// the rule; their share shows in the root-mean-square noise the report gives
+// beside the median, and as isolated pixels in the maps.
 //
 // Because every sample depends only on (seed, pixel, sample index), a
 // pixel's value does not depend on which other pixels are rendered: pixels
@@ -79,6 +103,7 @@
 // panel with its legend, and the lightness map follows on its own.
 //
 // The rule's estimate of the render's noise (median standard error over the
-// compared pixels, from the pilot) is reported beside sigma_p for every
-// holdout photo; with a fixed Options.SPP, the render's own.
+// pilot's pixels) is reported beside sigma_p for every holdout photo; with a
+// fixed Options.SPP, the render's own (its film's variance estimate, which
+// overstates the error of the stratified samples).
 package report

@@ -30,7 +30,12 @@ const (
 	// LowestMinSPP bounds Options.MinSPP from below: more than one position
 	// inside every pixel's box filter, and a film with a variance
 	// estimate of its own.
-	LowestMinSPP      = 2
+	LowestMinSPP = 2
+	// PixelMinSPP is the default of Options.PixelMinSPP, the fewest
+	// samples adaptive sampling gives any one pixel: PilotSPP, so that
+	// the pilot's error measured at PilotSPP samples bounds every
+	// pixel's.
+	PixelMinSPP       = PilotSPP
 	DefaultMaxDepth   = 4
 	DefaultNoiseRatio = 0.5
 	// DefaultIndirectClamp is the default of Options.IndirectClamp: a
@@ -39,16 +44,24 @@ const (
 	DefaultIndirectClamp = 0.25
 	// MaxSPPLimit bounds Options.SPP and Options.MaxSPP.
 	MaxSPPLimit = 1 << 16
-	// PilotSPP and PilotPixels size the noise rule's pilot render: that
-	// many samples of at most that many pixels spread over the compared
-	// interior, from which the rule estimates the per-sample variance.
-	// Many samples of few pixels, because the variance of a path tracer's
-	// samples is dominated by rare bright paths (indirect light reaching a
-	// glossy surface): estimated from 16 samples, the median per-sample
-	// variance of the demo's views came out 1.5 to 6 times lower than from
-	// 64, and the rule stopped too early.
-	PilotSPP    = 64
-	PilotPixels = 4096
+	// PilotSPP, PilotReplicates and PilotPixels size the noise rule's
+	// pilot render: PilotReplicates independent renders (other
+	// scrambling seeds) of PilotSPP samples each, of at most PilotPixels
+	// pixels spread over the compared interior. The spread of a pixel's
+	// replicate means is the error variance of a PilotSPP-sample mean as
+	// the renderer's sampler makes it. The variance the film estimates
+	// from one render's samples treats them as independent, but the
+	// sampler's scrambled Sobol points are stratified: on the small demo
+	// capture's four views the replicates' spread at 16 samples was 0.35
+	// to 0.47 of that estimate, and at 32 samples 0.29 to 0.38, falling
+	// faster than 1/N. So the rule, which extrapolates the pilot's error
+	// by 1/N to the render's N >= PilotSPP samples, errs on the noisy
+	// side. Many pixels sampled many times (64 each), because the
+	// variance of a path tracer's samples is dominated by rare bright
+	// paths (indirect light reaching a glossy surface).
+	PilotSPP        = 8
+	PilotReplicates = 8
+	PilotPixels     = 4096
 	// DefaultPanelWidth is the default of Options.PanelWidth: the page's
 	// strip shows three panels across its column of 64em, about 340 CSS
 	// pixels each.
@@ -69,6 +82,15 @@ type Options struct {
 	// NoiseRatio is the target ratio of the render's standard error to the
 	// photo's noise; 0 means DefaultNoiseRatio.
 	NoiseRatio float64
+	// Uniform turns adaptive sampling off: with the noise rule, every
+	// pixel gets the rule's samples. By default (false) each pixel stops
+	// once its own standard error is below NoiseRatio times the photo's
+	// noise (render.Adaptive), after at least PixelMinSPP samples and at
+	// most the rule's count.
+	Uniform bool
+	// PixelMinSPP is the fewest samples of any pixel with adaptive
+	// sampling; 0 means PixelMinSPP, else LowestMinSPP or more.
+	PixelMinSPP int
 	// MaxDepth is the render's largest number of scattering events (direct
 	// and indirect light); 0 means DefaultMaxDepth.
 	MaxDepth int
@@ -124,6 +146,9 @@ func (o Options) withDefaults() Options {
 	if o.NoiseRatio <= 0 {
 		o.NoiseRatio = DefaultNoiseRatio
 	}
+	if o.PixelMinSPP <= 0 {
+		o.PixelMinSPP = PixelMinSPP
+	}
 	if o.MaxDepth <= 0 {
 		o.MaxDepth = DefaultMaxDepth
 	}
@@ -161,6 +186,8 @@ func (o Options) Check() error {
 		return fmt.Errorf("largest samples per pixel %d: expected 0 (default) or 1..%d", o.MaxSPP, MaxSPPLimit)
 	case o.MinSPP != 0 && (o.MinSPP < LowestMinSPP || o.MinSPP > MaxSPPLimit):
 		return fmt.Errorf("fewest samples per pixel %d: expected 0 (default %d) or %d..%d", o.MinSPP, MinSPP, LowestMinSPP, MaxSPPLimit)
+	case o.PixelMinSPP != 0 && (o.PixelMinSPP < LowestMinSPP || o.PixelMinSPP > MaxSPPLimit):
+		return fmt.Errorf("fewest samples of a pixel %d: expected 0 (default %d) or %d..%d", o.PixelMinSPP, PixelMinSPP, LowestMinSPP, MaxSPPLimit)
 	case o.MaxDepth < 0 || o.MaxDepth > 1024:
 		return fmt.Errorf("depth %d: expected 0 (default) or 1..1024", o.MaxDepth)
 	case o.NoiseRatio < 0 || math.IsNaN(o.NoiseRatio) || math.IsInf(o.NoiseRatio, 0):
@@ -229,19 +256,28 @@ func NewSetup(c *capture.Capture, m *render.Mesh, mf *materials.File, threads in
 
 // Sampling records how the samples per pixel of a render were chosen.
 type Sampling struct {
-	// SPP is the samples per pixel of the compared render.
+	// SPP is the samples per pixel of the compared render; with adaptive
+	// sampling, the most any pixel got.
 	SPP int `json:"spp"`
 	// Automatic is true when the noise rule chose SPP.
 	Automatic bool `json:"automatic"`
+	// Adaptive is true when each pixel stopped once its own standard
+	// error met the target (after at least PixelMinSPP samples, at most
+	// SPP); MeanSPP is then the mean samples per traced pixel.
+	Adaptive    bool    `json:"adaptive"`
+	PixelMinSPP int     `json:"pixel_min_spp,omitempty"`
+	MeanSPP     float64 `json:"mean_spp"`
 	// PhotoNoise is the estimated standard deviation of the photo's noise
 	// (linear radiance, capture scale); 0 when it could not be estimated.
 	PhotoNoise float64 `json:"photo_noise"`
 	// RenderNoise is the median standard error of the render's pixels
 	// (same units), the quantity the rule holds against PhotoNoise;
 	// RenderNoiseRMS is the root-mean-square one, which the rare bright
-	// paths of indirect light dominate. With the rule they are the pilot's
-	// per-sample variances divided by SPP; with a fixed SPP, the render's
-	// own.
+	// paths of indirect light dominate. With uniform sampling by the rule
+	// they are the pilot's per-sample variances divided by SPP; with
+	// adaptive sampling or a fixed SPP, the render's own (each pixel's
+	// sample variance over its samples), over the pixels the pilot
+	// measures.
 	RenderNoise    float64 `json:"render_noise"`
 	RenderNoiseRMS float64 `json:"render_noise_rms"`
 	// Target is the wanted RenderNoise / PhotoNoise.
@@ -250,10 +286,12 @@ type Sampling struct {
 	// exceeds SPP (the cap bound).
 	Capped    bool `json:"capped"`
 	WantedSPP int  `json:"wanted_spp,omitempty"`
-	// PilotSPP and PilotPixels describe the pilot render the rule measured
-	// the per-sample variance on (automatic sampling only).
-	PilotSPP    int `json:"pilot_spp,omitempty"`
-	PilotPixels int `json:"pilot_pixels,omitempty"`
+	// PilotSPP, PilotReplicates and PilotPixels describe the pilot render
+	// the rule measured the render's error on (automatic sampling only):
+	// replicates of PilotSPP samples each of PilotPixels pixels.
+	PilotSPP        int `json:"pilot_spp,omitempty"`
+	PilotReplicates int `json:"pilot_replicates,omitempty"`
+	PilotPixels     int `json:"pilot_pixels,omitempty"`
 	// RenderedPixels is the number of pixels path-traced: those within one
 	// pixel of a pixel whose centre ray hits the mesh. The rest see no
 	// mesh and are left black.
@@ -446,20 +484,27 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 		}
 	}
 	var film *render.Film
+	var gc *gatherCamera
+	var pilotS2 []float64 // the pilot's per-sample variance of each gathered pixel
 	if opts.SPP > 0 {
 		settings.SPP = opts.SPP
 	} else {
-		// The noise rule: a pilot render of PilotSPP samples of at most
-		// PilotPixels interior pixels, spread over the view, measures
-		// the median per-sample variance s^2, and the render gets the N
-		// of chooseSPP. The pilot traces the same pixels' footprints
+		// The noise rule: a pilot of PilotReplicates independent
+		// renders of PilotSPP samples of at most PilotPixels interior
+		// pixels, spread over the view, measures each pixel's error
+		// variance V_j of a PilotSPP-sample mean from the spread of its
+		// replicate means; s^2 = median(V_j) PilotSPP is the
+		// per-sample variance it implies, and the render gets the N of
+		// chooseSPP. The pilot traces the same pixels' footprints
 		// gathered into a compact film (gatherCamera), so it costs
-		// PilotSPP * PilotPixels samples, a fraction of one sample per
-		// pixel of a large view, and its samples are independent of the
-		// render's (other film coordinates, other scrambling).
+		// PilotReplicates * PilotSPP * PilotPixels samples, a fraction
+		// of one sample per pixel of a large view, and its samples are
+		// independent of the render's (other film coordinates, other
+		// scrambling).
 		smp.Automatic = true
-		gc := newGatherCamera(v.cam, inner, PilotPixels)
-		smp.PilotSPP, smp.PilotPixels = PilotSPP, len(gc.idx)
+		gc = newGatherCamera(v.cam, inner, PilotPixels)
+		gc.reps = PilotReplicates
+		smp.PilotSPP, smp.PilotReplicates, smp.PilotPixels = PilotSPP, PilotReplicates, len(gc.idx)
 		ps := settings
 		ps.SPP = PilotSPP
 		ps.OnProgress = func(done, total int64) { progress("render", 0.05*float64(done)/float64(total)) }
@@ -469,18 +514,24 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 			if err != nil {
 				return nil, err
 			}
-			used := make([]bool, pf.Width*pf.Height)
-			for j := range gc.idx {
-				used[j] = true
+			pilotS2 = replicateVariance(pf, gc)
+			for j := range pilotS2 {
+				pilotS2[j] *= PilotSPP
 			}
-			med, mean = sampleVariance(pf, used)
+			med, mean = medianMean(pilotS2)
+			med /= chiSquareMedianRatio(PilotReplicates - 1)
 		}
 		med *= s.Scale * s.Scale
 		mean *= s.Scale * s.Scale
 		settings.SPP, smp.WantedSPP = chooseSPP(med, smp.PhotoNoise, opts.NoiseRatio, opts.MinSPP, opts.MaxSPP)
 		smp.Capped = smp.WantedSPP > settings.SPP
-		smp.RenderNoise = math.Sqrt(med / float64(settings.SPP))
-		smp.RenderNoiseRMS = math.Sqrt(mean / float64(settings.SPP))
+		// Adaptive sampling: the rule's count is every pixel's most;
+		// a pixel whose own standard error (with its neighbours', see
+		// render.Adaptive) is below the target stops sooner.
+		if t := opts.NoiseRatio * smp.PhotoNoise / s.Scale; !opts.Uniform && t > 0 && settings.SPP > opts.PixelMinSPP {
+			smp.Adaptive, smp.PixelMinSPP = true, opts.PixelMinSPP
+			settings.Adaptive = &render.Adaptive{MinSPP: opts.PixelMinSPP, Variance: t * t}
+		}
 	}
 	base := 0.0
 	if smp.Automatic {
@@ -493,10 +544,26 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 		return nil, err
 	}
 	smp.SPP = film.SPP
-	if !smp.Automatic {
-		med, mean := sampleVariance(film, inner)
-		smp.RenderNoise = math.Sqrt(med/float64(film.SPP)) * s.Scale
-		smp.RenderNoiseRMS = math.Sqrt(mean/float64(film.SPP)) * s.Scale
+	smp.MeanSPP = meanSamples(film, on)
+	if smp.Automatic {
+		// The render's noise from the pilot's independent samples of the
+		// same pixels: their per-sample variance over the samples each
+		// pixel got. (The render's own variance estimates treat its
+		// stratified samples as independent, and with adaptive sampling
+		// they are those its stops were decided on.)
+		se2 := make([]float64, 0, len(pilotS2))
+		for j, s2 := range pilotS2 {
+			i := int(gc.idx[j])
+			se2 = append(se2, s2/float64(film.Samples(i%w, i/w)))
+		}
+		med, mean := medianMean(se2)
+		med /= chiSquareMedianRatio(PilotReplicates - 1)
+		smp.RenderNoise = math.Sqrt(med) * s.Scale
+		smp.RenderNoiseRMS = math.Sqrt(mean) * s.Scale
+	} else {
+		med, mean := meanVariance(film, inner)
+		smp.RenderNoise = math.Sqrt(med) * s.Scale
+		smp.RenderNoiseRMS = math.Sqrt(mean) * s.Scale
 	}
 	ho.Sampler = smp
 	ho.RenderSeconds = time.Since(start).Seconds()
@@ -566,11 +633,15 @@ func dilate(in []bool, w, h int) []bool {
 
 // gatherCamera traces a subset of a camera's pixels packed into a compact
 // film gatherWidth pixels wide: film pixel j is the camera's pixel idx[j],
-// with the same offset inside the pixel.
+// with the same offset inside the pixel. With reps above 1 the film holds
+// that many copies one below the other (rows r*ch to (r+1)*ch-1 for copy
+// r), whose different film coordinates give independent samples of the
+// same pixels.
 type gatherCamera struct {
 	cam    render.Pinhole
 	idx    []int32
 	cw, ch int
+	reps   int
 }
 
 const gatherWidth = 128
@@ -602,18 +673,69 @@ func newGatherCamera(cam render.Pinhole, in []bool, n int) *gatherCamera {
 
 func (g *gatherCamera) Ray(px, py float64) (render.Ray, bool) {
 	cx, cy := math.Floor(px+0.5), math.Floor(py+0.5)
+	if cy >= 0 {
+		if int(cy)/g.ch >= max(1, g.reps) {
+			return render.Ray{}, false
+		}
+		cy = float64(int(cy) % g.ch)
+	}
 	j := int(cy)*g.cw + int(cx)
 	if cx < 0 || cy < 0 || int(cx) >= g.cw || j >= len(g.idx) {
 		return render.Ray{}, false
 	}
 	w := g.cam.Width
 	i := int(g.idx[j])
-	return g.cam.Ray(float64(i%w)+(px-cx), float64(i/w)+(py-cy))
+	return g.cam.Ray(float64(i%w)+(px-math.Floor(px+0.5)), float64(i/w)+(py-math.Floor(py+0.5)))
 }
 
 // Project is not meaningful for a gathered film; Render does not use it.
 func (g *gatherCamera) Project(render.Vec3) (float64, float64, bool) { return 0, 0, false }
-func (g *gatherCamera) Size() (int, int)                             { return g.cw, g.ch }
+func (g *gatherCamera) Size() (int, int)                             { return g.cw, g.ch * max(1, g.reps) }
+
+// replicateVariance returns, for every gathered pixel j of a film made
+// through g, the sample variance of its copies' means (mean of the
+// channels): an unbiased estimate of the error variance of one copy's
+// mean, with reps-1 degrees of freedom.
+func replicateVariance(f *render.Film, g *gatherCamera) []float64 {
+	r := max(1, g.reps)
+	out := make([]float64, len(g.idx))
+	if r < 2 {
+		for j := range out {
+			out[j] = math.Inf(1)
+		}
+		return out
+	}
+	for j := range g.idx {
+		var sum, sq brdf.RGB
+		for k := 0; k < r; k++ {
+			L, _ := f.Pixel(j%g.cw, k*g.ch+j/g.cw)
+			for c := 0; c < 3; c++ {
+				sum[c] += L[c]
+				sq[c] += L[c] * L[c]
+			}
+		}
+		var v float64
+		for c := 0; c < 3; c++ {
+			m := sum[c] / float64(r)
+			v += math.Max(0, sq[c]-float64(r)*m*m) / float64(r-1)
+		}
+		out[j] = v / 3
+	}
+	return out
+}
+
+// chiSquareMedianRatio is the median of a chi-square variable with k
+// degrees of freedom over k, by the Wilson-Hilferty approximation
+// (Wilson and Hilferty, "The distribution of chi-square", PNAS 17, 1931):
+// (1 - 2/(9k))^3. Variances estimated with k degrees of freedom have
+// their median at about this fraction of the true value, so the rule
+// divides the median of the replicate variances by it (for pixels of one
+// variance, exactly the correction; for pixels of spread variances, at
+// most it).
+func chiSquareMedianRatio(k int) float64 {
+	a := 1 - 2/(9*float64(k))
+	return a * a * a
+}
 
 // interior marks the valid pixels whose 3x3 neighbourhood is valid and of
 // one segment.
@@ -638,35 +760,60 @@ func interior(valid []bool, seg []int32, w, h int) []bool {
 	return out
 }
 
-// sampleVariance returns the median and the mean over the valid pixels of
-// the per-sample variance of the film's pixels (Film.Variance times the
-// samples per pixel, the mean of the three channels).
-func sampleVariance(f *render.Film, valid []bool) (median, mean float64) {
-	var vs []float64
+// medianMean returns the median and the mean of the finite values of vs
+// (0, 0 when there are none).
+func medianMean(vs []float64) (median, mean float64) {
+	var fin []float64
 	var sum float64
-	for y := 0; y < f.Height; y++ {
-		for x := 0; x < f.Width; x++ {
-			if valid != nil && !valid[y*f.Width+x] {
-				continue
-			}
-			v := f.Variance(x, y)
-			m := (v[0] + v[1] + v[2]) / 3 * float64(f.SPP)
-			if !math.IsNaN(m) && !math.IsInf(m, 0) {
-				vs = append(vs, m)
-				sum += m
-			}
+	for _, v := range vs {
+		if !math.IsNaN(v) && !math.IsInf(v, 0) {
+			fin = append(fin, v)
+			sum += v
 		}
 	}
-	n := len(vs)
+	n := len(fin)
 	if n == 0 {
 		return 0, 0
 	}
-	sort.Float64s(vs)
-	median = vs[n/2]
+	sort.Float64s(fin)
+	median = fin[n/2]
 	if n%2 == 0 {
-		median = (vs[n/2-1] + vs[n/2]) / 2
+		median = (fin[n/2-1] + fin[n/2]) / 2
 	}
 	return median, sum / float64(n)
+}
+
+// meanVariance returns the median and the mean over the valid pixels of
+// the estimated variance of the film's pixel means (Film.Variance, the
+// mean of the three channels).
+func meanVariance(f *render.Film, valid []bool) (median, mean float64) {
+	var vs []float64
+	for y := 0; y < f.Height; y++ {
+		for x := 0; x < f.Width; x++ {
+			if valid == nil || valid[y*f.Width+x] {
+				v := f.Variance(x, y)
+				vs = append(vs, (v[0]+v[1]+v[2])/3)
+			}
+		}
+	}
+	return medianMean(vs)
+}
+
+// meanSamples is the mean number of samples of the pixels marked on.
+func meanSamples(f *render.Film, on []bool) float64 {
+	var sum, n float64
+	for y := 0; y < f.Height; y++ {
+		for x := 0; x < f.Width; x++ {
+			if on[y*f.Width+x] {
+				sum += float64(f.Samples(x, y))
+				n++
+			}
+		}
+	}
+	if n == 0 {
+		return 0
+	}
+	return sum / n
 }
 
 // chooseSPP applies the noise rule: the smallest N with s2/N <= (ratio *

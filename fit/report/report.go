@@ -130,6 +130,8 @@ type SegmentRecord = materials.Segment
 type SettingsRecord struct {
 	SPP        int     `json:"spp"` // 0: chosen per photo by the noise rule
 	MinSPP     int     `json:"min_spp"`
+	Adaptive   bool    `json:"adaptive"`
+	PixelMin   int     `json:"pixel_min_spp,omitempty"`
 	SPPRule    string  `json:"spp_rule"`
 	MaxSPP     int     `json:"max_spp"`
 	NoiseRatio float64 `json:"noise_ratio"`
@@ -285,15 +287,22 @@ func Build(ctx context.Context, capPath, matPath string, opts Options, prov Prov
 		r.Materials.HistoryNote = "The convergence chart draws the loss after every pass of the fit as the materials file records it (loss_history per segment)."
 	}
 	r.Settings = SettingsRecord{SPP: opts.SPP, MinSPP: opts.MinSPP, MaxSPP: opts.MaxSPP, NoiseRatio: opts.NoiseRatio,
+		Adaptive: opts.SPP == 0 && !opts.Uniform,
 		MaxDepth: opts.MaxDepth, Seed: opts.Seed,
 		Light:    fmt.Sprintf("path tracing, direct and indirect light, at most %d scattering events, the photo's lights only, no environment", opts.MaxDepth),
 		SeedRule: "holdout photo k (0-based, in capture order) is rendered with seed + k",
 		Pixels:   "pixels whose centre ray hits the mesh, inside the photo's mask, with no saturated channel; only pixels within one pixel of a mesh hit are path-traced, the rest are left black",
 		Peak:     "linear white = 99.9th percentile of max(R,G,B) over the photo's compared pixels (PSNR peak, sRGB 1.0, CIELAB white)",
 	}
+	if r.Settings.Adaptive {
+		r.Settings.PixelMin = opts.PixelMinSPP
+	}
 	if opts.SPP == 0 {
-		r.Settings.SPPRule = fmt.Sprintf("automatic: N = ceil(s^2 / (%.2g sigma_p)^2) samples per pixel, within %d..%d, s^2 the median per-sample variance of the render over the compared pixels away from edges (measured by a pilot render of %d samples of up to %d of those pixels spread over the view), sigma_p the photo's noise over the same pixels (Immerkaer's operator, median form)",
-			opts.NoiseRatio, opts.MinSPP, opts.MaxSPP, PilotSPP, PilotPixels)
+		r.Settings.SPPRule = fmt.Sprintf("automatic: N = ceil(s^2 / (%.2g sigma_p)^2) samples per pixel, within %d..%d, s^2 the median over the compared pixels away from edges of a pixel's error variance at %d samples times %d (measured by a pilot of %d independent renders of %d samples of up to %d of those pixels spread over the view, from the spread of each pixel's %d means, divided by the chi-square median ratio for %d degrees of freedom), sigma_p the photo's noise over the same pixels (Immerkaer's operator, median form)",
+			opts.NoiseRatio, opts.MinSPP, opts.MaxSPP, PilotSPP, PilotSPP, PilotReplicates, PilotSPP, PilotPixels, PilotReplicates, PilotReplicates-1)
+		if !opts.Uniform {
+			r.Settings.SPPRule += fmt.Sprintf("; adaptive: N is each pixel's most, and a pixel stops after at least %d samples once its own sample variance over its samples (or, if larger, the mean of its 3x3 neighbourhood's) is below (%.2g sigma_p)^2, decided between passes", opts.PixelMinSPP, opts.NoiseRatio)
+		}
 	} else {
 		r.Settings.SPPRule = fmt.Sprintf("fixed: %d samples per pixel", opts.SPP)
 	}
