@@ -70,6 +70,7 @@ func (s *Scene) makePacks(threads int) {
 		start[i+1] = start[i] + int32(np)
 	}
 	packs := make([]triPack, start[len(n8)])
+	adviseHugePages(packs)
 	parallelFor(len(n8), threads, func(lo, hi int) {
 		for i := lo; i < hi; i++ {
 			next := int(start[i])
@@ -168,6 +169,7 @@ func collapse8(bin []bvhNode, threads int) []bvh8Node {
 		total += len(subs[k].out)
 	}
 	out := make([]bvh8Node, 1, total)
+	adviseHugePages(out[:total])
 	out[0] = root.out[0]
 	for k := range subs {
 		off := int32(len(out))

@@ -169,6 +169,7 @@ func collapseWith(bin []bvhNode, greedy bool, threads int) ([]bvh4Node, int) {
 		total += len(subs[k].out)
 	}
 	out := make([]bvh4Node, 1, total)
+	adviseHugePages(out[:total])
 	out[0] = root.out[0]
 	depth := 1
 	for k := range subs {

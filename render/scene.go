@@ -81,6 +81,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 	nt := m.NumTriangles()
 	s := &Scene{mesh: m}
 	refs := make([]primRef, nt)
+	adviseHugePages(refs)
 	cb, all := parallelRefs(m, refs, threads)
 	bd := &builder{refs: refs, threads: threads, packed: packedLeaves()}
 	if threads > 1 {
@@ -88,6 +89,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 	}
 	nslots := max(nt, 1)
 	bd.nodes = make([]bvhNode, nslots)
+	adviseHugePages(bd.nodes)
 	ref, cnt, st := bd.build(0, nt, cb, 0, 0, new(buildScratch))
 	if ref < 0 {
 		// The whole mesh is one leaf (or empty): wrap it in a root whose
@@ -104,6 +106,7 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 		st.leaves = 1
 	}
 	s.tris = make([]triVerts, nt)
+	adviseHugePages(s.tris)
 	s.triID = make([]int32, nt)
 	parallelFor(nt, threads, func(lo, hi int) {
 		for i := lo; i < hi; i++ {
