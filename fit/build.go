@@ -14,6 +14,7 @@ import (
 	"patina/assets/photo"
 	"patina/brdf"
 	"patina/render"
+	"patina/render/colour"
 )
 
 // Rejections counts the pixels left out of the fit, by reason. A pixel of a
@@ -33,7 +34,10 @@ type Rejections struct {
 	Grazing int
 	// Masked: outside the photo's mask.
 	Masked int
-	// Saturated: some channel at or above the decoder's saturation level.
+	// Saturated: some channel at or above the decoder's saturation level,
+	// and the pixel not kept as a clipped (censored) observation: with
+	// Options.RejectSaturated, or when no channel could be told clipped.
+	// The pixels kept are counted in ObservationSet.Clipped instead.
 	Saturated int
 	// UnderExposed: mean radiance below the noise floor.
 	UnderExposed int
@@ -100,6 +104,13 @@ type ObservationSet struct {
 	// one observation; PhotoRejections the counts per photo (by index).
 	PhotosUsed      []int
 	PhotoRejections map[int]Rejections
+	// Clipped counts the pixels with a channel at the photo's saturation
+	// level that passed every other test and were kept as candidates for
+	// the fit, their clipped channels as lower bounds (censored
+	// observations, see objective); like kept pixels, not all are drawn.
+	// PhotoClipped has the same count per photo (by index).
+	Clipped      int
+	PhotoClipped map[int]int
 	// Cameras and Lights are the capture's, for advice.
 	cameras []capture.Camera
 	lights  []capture.Light
@@ -134,7 +145,7 @@ func buildObservations(ctx context.Context, c *capture.Capture, m *render.Mesh, 
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", c.Path, err)
 	}
-	set := &ObservationSet{PhotoRejections: map[int]Rejections{}, cameras: c.Cameras, lights: c.Lights}
+	set := &ObservationSet{PhotoRejections: map[int]Rejections{}, PhotoClipped: map[int]int{}, cameras: c.Cameras, lights: c.Lights}
 	for i, s := range segs {
 		model := s.Model
 		if model == "" {
@@ -232,6 +243,8 @@ func buildObservations(ctx context.Context, c *capture.Capture, m *render.Mesh, 
 		}
 	}
 	for _, s := range set.Segments {
+		s.Obs.poolIndirect(poolHalfWidth)
+		s.Obs.ClipSigma = opts.ClipSigma
 		if len(s.floors) > 0 {
 			f := append([]float64(nil), s.floors...)
 			sort.Float64s(f)
@@ -400,7 +413,49 @@ type decodedPhoto struct {
 	img      *photo.Image
 	mask     []bool
 	exposure float64
-	err      error
+	// clip is the linear radiance (capture scale) of the decoder's
+	// saturation threshold: a channel at or above it is clipped.
+	clip float64
+	err  error
+}
+
+// clipLevel returns the linear radiance, in the capture's scale, of the
+// code value at which d's decoder marks a channel saturated (the
+// threshold times the white level), decoded as the photo decoder does
+// (assets/photo: normalised code, black and white levels, the sRGB curve of
+// IEC 61966-2-1, the exposure multiplier).
+func clipLevel(d photo.Decoding) float64 {
+	white, thr, e := d.WhiteLevel, d.SaturationThreshold, d.Exposure
+	if white == 0 {
+		white = 1
+	}
+	if thr == 0 {
+		thr = photo.DefaultSaturationThreshold
+	}
+	if e == 0 {
+		e = 1
+	}
+	u := (thr*white - d.BlackLevel) / (white - d.BlackLevel)
+	if d.Encoding == "" || d.Encoding == "srgb" {
+		u = colour.SRGBToLinear(u)
+	}
+	return u * e
+}
+
+// clipMask returns the channels of pixel px at or above the clip level
+// (bit 0 red, 1 green, 2 blue). The decoder's value for the first
+// saturated code is at or just above clip; the factor 1 - 1e-6 absorbs
+// float32 rounding and stays far below the step to the code beneath (at
+// least 1.5e-5 relative for 16-bit codes).
+func clipMask(px []float32, clip float64) uint8 {
+	lim := clip * (1 - 1e-6)
+	var m uint8
+	for c := 0; c < 3; c++ {
+		if float64(px[c]) >= lim {
+			m |= 1 << c
+		}
+	}
+	return m
 }
 
 func decodePhoto(c *capture.Capture, pi int) decodedPhoto {
@@ -420,7 +475,7 @@ func decodePhoto(c *capture.Capture, pi int) decodedPhoto {
 	if e == 0 {
 		e = 1
 	}
-	return decodedPhoto{img: img, mask: mask, exposure: e}
+	return decodedPhoto{img: img, mask: mask, exposure: e, clip: clipLevel(dec)}
 }
 
 func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPhoto, v *view, scene *render.Scene, offset float64, set *ObservationSet, opts Options) error {
@@ -440,10 +495,15 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 	cands := make([][]int32, nseg)
 	var dark []int32
 	for i := 0; i < w*h; i++ {
-		switch pixelReason(v, i, img, mask, lights, floor, opts.MinCosine) {
+		switch pixelReason(v, i, img, mask, lights, floor, d.clip, opts) {
 		case PixelKept:
 			s := v.seg[i]
 			cands[s] = append(cands[s], int32(i))
+		case PixelClipped:
+			s := v.seg[i]
+			cands[s] = append(cands[s], int32(i))
+			set.Clipped++
+			set.PhotoClipped[pi]++
 		case PixelBorder:
 			rej.Border++
 		case PixelUnassigned:
@@ -529,8 +589,9 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 				o.normal = make([]render.Vec3, nseg)
 				o.pos = make([]render.Vec3, nseg)
 				kbuf := make([]float32, 3*nseg)
+				var rays []indirectRay
 				for _, p := range picks[k*chunk : min((k+1)*chunk, len(picks))] {
-					if !observe(v, int(p.pix), img.Pix, lights, scene, offset, &o.obs[p.seg], pi) {
+					if !observe(v, int(p.pix), img, d.clip, lights, scene, offset, &o.obs[p.seg], pi) {
 						o.shadow++
 						continue
 					}
@@ -542,11 +603,15 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 						if ng.Dot(v.gb.Ns[q]) < 0 {
 							ng = ng.Mul(-1)
 						}
-						indirectFactors(v.gb.Pos[q], v.gb.Ns[q], ng, lights, scene, offset, v.labelSeg, nseg,
-							opts.IndirectSamples, opts.Seed, pi, q, kbuf)
 						ob := &o.obs[p.seg]
+						metal := set.Segments[p.seg].Kind == brdf.Metal
+						indirectFactors(v.gb.Pos[q], v.gb.Ns[q], ng, lights, scene, offset, v.labelSeg, nseg,
+							opts.IndirectSamples, opts.Seed, pi, q, kbuf, &rays)
 						ob.IndSegs = nseg
 						ob.IndK = append(ob.IndK, kbuf...)
+						for _, r := range rays {
+							ob.AddRay(r.dir, r.seg, r.wo, r.wl, r.e, metal)
+						}
 					}
 					o.normal[p.seg] = o.normal[p.seg].Add(v.gb.Ns[p.pix])
 					o.pos[p.seg] = o.pos[p.seg].Add(v.gb.Pos[p.pix])
@@ -600,11 +665,17 @@ const (
 	PixelSaturated                       // clipped channel
 	PixelUnderExposed                    // below the noise floor (not in shadow)
 	PixelShadow                          // in the cast shadow of the photo's lights
+	PixelClipped                         // a candidate with clipped channels, kept as lower bounds
 )
 
 // pixelReason applies the tests that need no shadow ray; a dark pixel comes
-// back PixelUnderExposed and is split from PixelShadow by the caller.
-func pixelReason(v *view, i int, img *photo.Image, mask []bool, lights []photoLight, floor, minCos float64) PixelReason {
+// back PixelUnderExposed and is split from PixelShadow by the caller. A
+// saturated pixel comes back PixelClipped (a candidate whose clipped
+// channels are censored observations) unless opts.RejectSaturated is set or
+// none of its channels reaches clip (a decoder's mask this fit cannot
+// read channel by channel).
+func pixelReason(v *view, i int, img *photo.Image, mask []bool, lights []photoLight, floor, clip float64, opts Options) PixelReason {
+	minCos := opts.MinCosine
 	switch v.status[i] {
 	case viewMiss:
 		return PixelBackground
@@ -622,7 +693,10 @@ func pixelReason(v *view, i int, img *photo.Image, mask []bool, lights []photoLi
 		return PixelMasked
 	}
 	if img.Saturated != nil && img.Saturated[i] {
-		return PixelSaturated
+		if opts.RejectSaturated || clipMask(img.Pix[3*i:3*i+3], clip) == 0 {
+			return PixelSaturated
+		}
+		return PixelClipped
 	}
 	px := img.Pix[3*i : 3*i+3]
 	if (float64(px[0])+float64(px[1])+float64(px[2]))/3 < floor {
@@ -676,7 +750,7 @@ func RejectionMap(ctx context.Context, c *capture.Capture, pi int, opts Options)
 	offset := 1e-5 * math.Max(scene.Bounds().Diagonal(), 1e-3)
 	out := make([]PixelReason, cam.Width*cam.Height)
 	for i := range out {
-		r := pixelReason(v, i, d.img, d.mask, lights, floor, opts.MinCosine)
+		r := pixelReason(v, i, d.img, d.mask, lights, floor, d.clip, opts)
 		if r == PixelUnderExposed && inShadow(v, i, lights, scene, offset) {
 			r = PixelShadow
 		}
@@ -737,8 +811,10 @@ func (L *photoLight) towards(p render.Vec3, offset float64) (render.Vec3, float6
 }
 
 // observe adds pixel i as an observation unless every light is shadowed or
-// behind the surface; it reports whether it did.
-func observe(v *view, i int, pix []float32, lights []photoLight, scene *render.Scene, offset float64, obs *Observations, photo int) bool {
+// behind the surface; it reports whether it did. A saturated pixel's
+// channels at the clip level are added as censored (lower bounds at clip).
+func observe(v *view, i int, img *photo.Image, clip float64, lights []photoLight, scene *render.Scene, offset float64, obs *Observations, photo int) bool {
+	pix := img.Pix
 	p := v.gb.Pos[i]
 	ns := v.gb.Ns[i]
 	ng := v.gb.Ng[i]
@@ -780,6 +856,17 @@ func observe(v *view, i int, pix []float32, lights []photoLight, scene *render.S
 		return false
 	}
 	q := pix[3*i : 3*i+3]
-	obs.Add(frame.ToLocal(v.wo[i]), [3]float64{float64(q[0]), float64(q[1]), float64(q[2])}, photo)
+	rad := [3]float64{float64(q[0]), float64(q[1]), float64(q[2])}
+	if img.Saturated != nil && img.Saturated[i] {
+		m := clipMask(q, clip)
+		for c := 0; c < 3; c++ {
+			if m&(1<<c) != 0 {
+				rad[c] = clip
+			}
+		}
+		obs.AddCensored(frame.ToLocal(v.wo[i]), rad, m, photo)
+		return true
+	}
+	obs.Add(frame.ToLocal(v.wo[i]), rad, photo)
 	return true
 }

@@ -8,7 +8,9 @@
 // photos one at a time (the next one is decoded while the current one is
 // used, so at most two are in memory), casts a ray through every pixel of
 // each camera once for all of that camera's photos, rejects the pixels that
-// cannot be trusted and counts them by reason (Rejections), draws a
+// cannot be trusted and counts them by reason (Rejections; a saturated pixel
+// is kept, its clipped channels as lower bounds, unless
+// Options.RejectSaturated), draws a
 // stratified sample of at most Options.Samples pixels per segment and photo,
 // casts shadow rays to the photo's lights, and stores each kept pixel as an
 // observation in the segment's local shading frame (Observations, float32,
@@ -26,13 +28,18 @@
 // counts as a point light of the same intensity at its centre, exact in the
 // far field). Interreflection is modelled to one bounce (indirect.go):
 // cosine-weighted rays from every observation find the direct light the
-// rest of the mesh reflects onto it, the fitted albedos turn that into an
-// indirect irradiance between fitting stages, and the model adds its
-// reflection by the observed surface (a metal's is left out, and enters
-// its sigma instead). Options.IndirectSamples < 0 turns the term off.
+// rest of the mesh reflects onto it, the neighbours' fitted BRDFs turn that
+// into indirect light between fitting stages (pooled over neighbouring
+// observations of the same photo), and the model adds its reflection by
+// the observed surface (as a matte response for a dielectric, as
+// directional light samples for a metal). Options.IndirectSamples < 0
+// turns the term off.
 //
 // The loss is Charbonnier on the log-radiance residual; the objective's doc
-// comment says why. Gradients are analytic (brdf.EvalGrad), evaluated on all
+// comment says why. A clipped channel is a censored observation (Tobit):
+// its likelihood of lying at or above the clip level enters through its
+// deviance residual, with the noise scale measured near the clip level
+// between stages (SegmentFit.ClipScale). Gradients are analytic (brdf.EvalGrad), evaluated on all
 // threads over fixed chunks with an ordered reduction, so the result is the
 // same bit for bit on any number of cores, and nothing is allocated per pass.
 //
@@ -44,7 +51,9 @@
 // robust loss (IRLS weights, Marquardt's diagonal scaling) is the default:
 // on the recovery cases it converges in about 20 passes where L-BFGS (gonum
 // optimize) needs about 50 and Adam about 190 (BenchmarkOptimizers); both
-// stay selectable. The diffuse colour starts
+// stay selectable. Each accepted step's curvature is corrected along the
+// step by the secant condition (runLM), which stops the zig-zag of plain
+// Gauss-Newton along a shallow valley. The diffuse colour starts
 // from linear least squares on the observations far from the specular
 // configuration, F0 from linear least squares at each of a few roughness
 // starts; the best start after a short run is continued. Stop rules: relative

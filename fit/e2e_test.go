@@ -493,7 +493,7 @@ func TestRejectionMap(t *testing.T) {
 	if w != camW || h != camH || len(m) != w*h {
 		t.Fatalf("map %dx%d (%d)", w, h, len(m))
 	}
-	var n [PixelShadow + 1]int
+	var n [PixelClipped + 1]int
 	for _, r := range m {
 		n[r]++
 	}
@@ -502,6 +502,9 @@ func TestRejectionMap(t *testing.T) {
 		Saturated: n[PixelSaturated], UnderExposed: n[PixelUnderExposed], Shadow: n[PixelShadow]}
 	if got.Masked == 0 || got != want {
 		t.Errorf("map counts %+v, fit's counts %+v", got, want)
+	}
+	if n[PixelClipped] != set.PhotoClipped[pi] {
+		t.Errorf("map: %d clipped pixels kept, the fit %d", n[PixelClipped], set.PhotoClipped[pi])
 	}
 }
 

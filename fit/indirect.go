@@ -22,33 +22,42 @@ import (
 // built and combined with the fitted albedos between stages:
 //
 //  1. For every observation, IndirectSamples cosine-weighted rays leave the
-//     surface point x; where a ray hits the mesh at y on segment s, the
-//     direct irradiance E(y) of the photo's lights is computed (with shadow
-//     rays). Treating y as a Lambertian reflector of albedo a_s, the
-//     radiance it sends to x is a_s E(y) / pi, and the cosine-weighted
-//     Monte Carlo estimate of the indirect irradiance at x is
-//     E_ind = sum over s of a_s K_s, K_s = (1/N) sum over the rays that
-//     hit s of E(y) (Pharr, Jakob and Humphreys, "Physically Based
-//     Rendering", 3rd ed., 2016, sections 13.6.3 and 14.5). K depends only
-//     on geometry and lights, so it is computed once (Observations.IndK).
-//  2. After a fit, the albedos a_s = d (1 - F0) + F0 of the fitted segments
-//     (the hemispherical reflectance of the diffuse and specular lobes,
-//     each taken as if it reflected all it receives: common practice for a
-//     one-bounce estimate) give E_ind per observation (Observations.AR,
-//     AG, AB), and the forward model adds its reflection by the observed
-//     surface, (d (1 - F0) + F0) E_ind / pi (the indirect light arrives
-//     from all over the hemisphere, where a matte lobe's response does not
-//     depend on its direction; a metal's glossy lobe's does, see
-//     ambientResponse).
+//     surface point x; where a ray hits the mesh at y on segment s, every
+//     light of the photo that reaches y (shadow rays) gives a ray entry
+//     (Observations.RayEnd): the directions at y towards x and towards the
+//     light, in y's shading frame, and the light's irradiance E_l(y) there.
+//     The radiance y sends to x is sum over l of f_s(wo_y, wi_l) E_l(y),
+//     with f_s segment s's BRDF at its current parameters, and the
+//     cosine-weighted Monte Carlo estimate of the indirect irradiance at x
+//     is pi/N times the sum of that over the rays (Pharr, Jakob and
+//     Humphreys, "Physically Based Rendering", 3rd ed., 2016, sections
+//     13.6.3 and 14.5). The entries depend only on geometry and lights, so
+//     they are made once. (Observations.IndK keeps the same rays summed per
+//     segment as if every neighbour were Lambertian, K_s = (1/N) sum of
+//     E(y), the estimate used before the entries existed: taking the card,
+//     seen by the foot at grazing angles, as Lambertian overstated the
+//     light it sends by about a third, since the diffuse lobe's Fresnel
+//     weighting (1 - S(n.v)) darkens it there.)
+//  2. After a fit, estimateAmbient evaluates every entry with the fitted
+//     parameters, and the forward model adds the reflection of that light by
+//     the observed surface: for a dielectric or free model as if both lobes
+//     were matte, (d (1 - F0) + F0) E_ind / pi (Observations.AR, AG, AB;
+//     the light arrives from all over the hemisphere, where a matte
+//     lobe's response does not depend on its direction); for a metal,
+//     whose glossy lobe's does, every entry is a light sample in its ray's
+//     direction (Observations.LightRay), weighted by the lobe like a lamp.
+//     The estimate of an observation is the average over its neighbours in
+//     the same photo (poolIndirect, photoRun), nine observations' rays: a
+//     few rays alone leave a spread the log residual turns into a bias.
 //  3. Every segment is fitted again, warm-started, with that term fixed;
 //     Options.IndirectStages rounds of 2 and 3 follow the first fit. The
 //     fits that only feed the next estimate stop at a relative loss change
 //     of looseRelTol; the last one at Options.RelTol.
 //
-// What is left out: a metal's reflection of indirect light, second and later bounces (a few percent of the first
-// for albedos below 0.5), the non-Lambertian shape of the neighbours'
-// reflection (a glossy neighbour's highlight is spread over the
-// hemisphere), and surfaces outside the mesh (a table, walls).
+// What is left out: second and later bounces (a few percent of the first
+// for albedos below 0.5), caustics a few rays cannot find (a glossy
+// neighbour's highlight is found only by the rays that happen to meet its
+// mirror direction), and surfaces outside the mesh (a table, walls).
 
 // albedoOf is a_c = d_c (1 - F0_c) + F0_c of p's effective colours.
 func albedoOf(p *brdf.Params) [3]float64 {
@@ -77,11 +86,13 @@ func effectiveColours(kind brdf.Kind, v []float64) (d, s [3]float64) {
 // ambientResponse returns R_c = (d_c (1 - F0_c) + F0_c) / pi, the radiance
 // the observed surface reflects per unit of indirect irradiance as if both
 // lobes were matte, and its derivatives with respect to p's vector:
-// dR[c][k]. A metal gets R = 0, no indirect term: its glossy lobe reflects
+// dR[c][k]. A metal gets R = 0, no matte term: its glossy lobe reflects
 // only what lies near the mirror direction, which a hemisphere average
 // misjudges badly (on the demo's gilding, treating the lobe as matte took
-// 45% of its F0 away). A dielectric's specular lobe reflects a few percent
-// of the indirect light, where the same approximation costs little.
+// 45% of its F0 away); its indirect light comes in as directional light
+// samples instead (Observations.LightRay). A dielectric's specular lobe
+// reflects a few percent of the indirect light, where the same
+// approximation costs little.
 func ambientResponse(p *brdf.Params, dR *[3][brdf.MaxParams]float64) [3]float64 {
 	return ambientResponseMatte(p, dR, false)
 }
@@ -165,18 +176,65 @@ func (set *ObservationSet) estimateAmbient(params []brdf.Params) []float64 {
 			ob.AR, ob.AG, ob.AB = make([]float32, n), make([]float32, n), make([]float32, n)
 		}
 		resp := ambientResponse(&params[si], nil)
+		withRays := len(ob.RayEnd) == n
+		// The irradiance every ray entry sends, with its segment's current
+		// parameters: pi f_s(wo_y, wi_y) E_y.
+		sent := make([][3]float64, len(ob.RaySeg))
+		for r, sg := range ob.RaySeg {
+			if int(sg) >= ns {
+				continue
+			}
+			wo := brdf.Vec{X: float64(ob.RayWoX[r]), Y: float64(ob.RayWoY[r]), Z: float64(ob.RayWoZ[r])}
+			wl := brdf.Vec{X: float64(ob.RayWiX[r]), Y: float64(ob.RayWiY[r]), Z: float64(ob.RayWiZ[r])}
+			f := brdf.Eval(&params[sg], wo, wl)
+			sent[r] = [3]float64{math.Pi * f[0] * float64(ob.RayER[r]), math.Pi * f[1] * float64(ob.RayEG[r]), math.Pi * f[2] * float64(ob.RayEB[r])}
+		}
+		for l, r := range ob.LightRay {
+			if r >= 0 {
+				w := ob.lightWeight(l)
+				ob.ER[l], ob.EG[l], ob.EB[l] = float32(w*sent[r][0]), float32(w*sent[r][1]), float32(w*sent[r][2])
+			}
+		}
+		// Every observation's own estimate, then (with rays) the average
+		// over its neighbours in the same photo, as poolIndirect does for
+		// a metal's directional samples.
+		own := make([][3]float64, n)
+		if withRays {
+			for i := 0; i < n; i++ {
+				rs, re := ob.rays(i)
+				for r := rs; r < re; r++ {
+					for c := 0; c < 3; c++ {
+						own[i][c] += sent[r][c]
+					}
+				}
+			}
+		}
 		sum := 0.0
 		for i := 0; i < n; i++ {
 			var e [3]float64
-			k := ob.IndK[3*ns*i : 3*ns*(i+1)]
-			for s := 0; s < ns; s++ {
-				for c := 0; c < 3; c++ {
-					e[c] += alb[s][c] * float64(k[3*s+c])
+			if withRays {
+				lo, hi := ob.photoRun(i, poolHalfWidth)
+				for k := lo; k < hi; k++ {
+					for c := 0; c < 3; c++ {
+						e[c] += own[k][c]
+					}
+				}
+				for c := range e {
+					e[c] /= float64(hi - lo)
+				}
+			} else {
+				k := ob.IndK[3*ns*i : 3*ns*(i+1)]
+				for s := 0; s < ns; s++ {
+					for c := 0; c < 3; c++ {
+						e[c] += alb[s][c] * float64(k[3*s+c])
+					}
 				}
 			}
 			ob.AR[i], ob.AG[i], ob.AB[i] = float32(e[0]), float32(e[1]), float32(e[2])
 			direct := directAt(ob, i, &params[si])
+			all := samplesAt(ob, i, &params[si], true)
 			ind := resp[0]*e[0] + resp[1]*e[1] + resp[2]*e[2]
+			ind += all[0] + all[1] + all[2] - direct[0] - direct[1] - direct[2]
 			if tot := direct[0] + direct[1] + direct[2] + ind; tot > 0 {
 				sum += ind / tot
 			}
@@ -193,9 +251,17 @@ func (set *ObservationSet) estimateAmbient(params []brdf.Params) []float64 {
 // camera) and writes K[s][c] into k (3 per segment). labelSeg maps the
 // mesh's segment labels to the set's segments. The sample is a function of
 // (seed, photo, pixel) only.
-func indirectFactors(p, ns, ng render.Vec3, lights []photoLight, scene *render.Scene, offset float64, labelSeg []int, nseg, samples int, seed uint64, photo, pixel int, k []float32) {
+//
+// When rays is not nil, every ray that meets a segment and finds light
+// there is also appended to it as a directional sample (local direction,
+// segment, irradiance divided by samples), for a metal's lobe-weighted
+// indirect term (Observations.LightSeg).
+func indirectFactors(p, ns, ng render.Vec3, lights []photoLight, scene *render.Scene, offset float64, labelSeg []int, nseg, samples int, seed uint64, photo, pixel int, k []float32, rays *[]indirectRay) {
 	for i := range k {
 		k[i] = 0
+	}
+	if rays != nil {
+		*rays = (*rays)[:0]
 	}
 	var src rand.PCG
 	src.Seed(seed^0x9e3779b97f4a7c15, uint64(photo)<<32|uint64(uint32(pixel)))
@@ -239,6 +305,12 @@ func indirectFactors(p, ns, ng render.Vec3, lights []photoLight, scene *render.S
 			continue
 		}
 		yo := h.P.AddScaled(hn, offset)
+		var fy render.Frame
+		var woY brdf.Vec
+		if rays != nil {
+			fy = render.NewFrame(hs)
+			woY = fy.ToLocal(d.Mul(-1))
+		}
 		for li := range lights {
 			L := &lights[li]
 			wi, tmax := L.towards(h.P, offset)
@@ -256,11 +328,25 @@ func indirectFactors(p, ns, ng render.Vec3, lights []photoLight, scene *render.S
 					e[c] /= r2
 				}
 			}
+			var ey [3]float64
 			for c := 0; c < 3; c++ {
-				k[3*s+c] += float32(e[c] * cos * inv)
+				ey[c] = e[c] * cos * inv
+				k[3*s+c] += float32(ey[c])
+			}
+			if rays != nil {
+				*rays = append(*rays, indirectRay{dir: local, seg: s, wo: woY, wl: fy.ToLocal(wi), e: ey})
 			}
 		}
 	}
+}
+
+// indirectRay is one ray entry (Observations.RayEnd): an indirect ray that
+// met segment seg at a point lit by one light.
+type indirectRay struct {
+	dir    brdf.Vec // the ray, in the local frame of the observed point
+	seg    int
+	wo, wl brdf.Vec   // towards the observed point and the light, local frame at the hit
+	e      [3]float64 // the light's irradiance at the hit / number of rays
 }
 
 // looseRelTol is the stop rule of the fits whose albedos only feed the
@@ -279,7 +365,10 @@ const looseRelTol = 1e-4
 // near-specular observations reads as a rougher, darker metal. The refit
 // measures how far the parameters move between leaving the term out and
 // the matte-lobe estimate of it, which overstates it (a glossy lobe sees
-// only what lies near the mirror direction).
+// only what lies near the mirror direction). Run uses it only for a metal
+// whose observations carry no directional indirect samples (none of its
+// rays met a lit neighbour); otherwise the term is in the model and its
+// uncertainty enters through IndirectRelError (SegmentFit.uncertainty).
 func metalIndirectSigma(ctx context.Context, so *SegmentObservations, sf *SegmentFit, hold *held, opts Options) error {
 	eps := so.Floor
 	if opts.NoiseFloor > 0 {
@@ -327,3 +416,8 @@ func metalIndirectSigma(ctx context.Context, so *SegmentObservations, sf *Segmen
 	}
 	return nil
 }
+
+// poolHalfWidth is the half-width of the window of neighbouring
+// observations whose indirect rays an observation shares (poolIndirect,
+// and the matte estimate's average in estimateAmbient).
+const poolHalfWidth = 4

@@ -43,7 +43,7 @@ func TestIndirectFactorsFormFactor(t *testing.T) {
 	lights := []photoLight{{kind: capture.LightDirectional, dir: render.V3(0, 0, -1), power: [3]float64{1, 0.5, 2}}}
 	k := make([]float32, 6)
 	const samples = 20000
-	indirectFactors(render.V3(0, 0, 0), render.V3(0, 0, 1), render.V3(0, 0, 1), lights, scene, 1e-6, []int{0, 1}, 2, samples, 1, 0, 0, k)
+	indirectFactors(render.V3(0, 0, 0), render.V3(0, 0, 1), render.V3(0, 0, 1), lights, scene, 1e-6, []int{0, 1}, 2, samples, 1, 0, 0, k, nil)
 	x := a / c
 	corner := 1 / (2 * math.Pi) * 2 * x / math.Sqrt(1+x*x) * math.Atan(x/math.Sqrt(1+x*x))
 	want := 4 * corner

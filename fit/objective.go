@@ -34,13 +34,37 @@ const chunkSize = 2048
 // grows only linearly beyond (a clipped highlight the mask missed, a
 // registration error, a shadow edge cost a bounded pull), and unlike Huber it
 // is smooth everywhere, which quasi-Newton line searches prefer.
+//
+// A clipped channel (Observations.Censored: the pixel reached the photo's
+// saturation level, stored as the clip level L) is a censored observation:
+// the true radiance is at least L. Leaving such pixels out would bias the
+// fit low, since near a highlight only the pixels whose noise happened to
+// be negative stay below the clip (and the brightest part of the lobe would
+// be lost altogether). It enters as in censored regression (the Tobit model:
+// Tobin, "Estimation of relationships for limited dependent variables",
+// Econometrica 26(1), 1958; Amemiya, "Tobit models: a survey", J.
+// Econometrics 24, 1984): with log-normal noise of scale s on the
+// observation, the likelihood of "at least L" is Phi(r/s), r = log(m + eps)
+// - log(L + eps), and its negative log n(r) = -log Phi(r/s) is near 0 when
+// the model is well above the clip and grows like (r/s)^2/2 below it. The
+// loss takes it through its deviance residual u = s sqrt(2 n(r))
+// (McCullagh and Nelder, "Generalized Linear Models", 2nd ed., 1989,
+// section 2.4.3), u = |r| for an ordinary Gaussian observation, and applies
+// the same Charbonnier: rho(u). Near the clip that is s^2 n(r), the Tobit
+// log-likelihood on the same footing as the unclipped channels' r^2/2; far
+// below it the pull is bounded like theirs. Its derivative is
+// d rho / d r = -s lambda(r/s) / sqrt(1 + (u/delta)^2), with lambda =
+// phi/Phi the inverse Mills ratio, and its Gauss-Newton weight
+// lambda^2 / (2 n) / sqrt(1 + (u/delta)^2).
 type objective struct {
 	obs   *Observations
 	kind  brdf.Kind
 	np    int
 	eps   float64
 	delta float64
-	invO  [3][]float32 // 1/(max(o,0)+eps), precomputed
+	// clipSigma is the censored channels' scale (Observations.ClipSigma).
+	clipSigma float64
+	invO      [3][]float32 // 1/(max(o,0)+eps), precomputed
 
 	nchunks  int
 	partLoss []float64
@@ -68,7 +92,7 @@ func newObjective(obs *Observations, kind brdf.Kind, eps, delta float64, threads
 	n := obs.Len()
 	o := &objective{
 		obs: obs, kind: kind, np: kind.NumParams(), eps: eps, delta: delta,
-		nchunks: (n + chunkSize - 1) / chunkSize,
+		nchunks: (n + chunkSize - 1) / chunkSize, clipSigma: obs.clipSigma(),
 	}
 	o.partLoss = make([]float64, o.nchunks)
 	o.partGrad = make([][brdf.MaxParams]float64, o.nchunks)
@@ -260,9 +284,35 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 				}
 			}
 		}
+		var cens uint8
+		if len(ob.Censored) > 0 {
+			cens = ob.Censored[i]
+		}
 		for ch := 0; ch < 3; ch++ {
 			me := m[ch] + eps
 			r := logRatio(me * float64(o.invO[ch][i]))
+			if cens&(1<<ch) != 0 {
+				// A clipped channel: the photo says only that the
+				// radiance is at least the clip level.
+				l, dl, gw := censoredTerm(r, o.clipSigma, delta)
+				loss += l
+				if wantGrad {
+					w := dl / me
+					for k := 0; k < np; k++ {
+						gs[k] += w * dm[ch][k]
+					}
+					if wantHess {
+						wh := gw / (me * me)
+						for a := 0; a < np; a++ {
+							ja := wh * dm[ch][a]
+							for b := 0; b <= a; b++ {
+								hl[a*np+b] += ja * dm[ch][b]
+							}
+						}
+					}
+				}
+				continue
+			}
 			q := r * inv
 			sq := math.Sqrt(1 + q*q)
 			loss += d2 * (sq - 1)
@@ -290,4 +340,58 @@ func (o *objective) chunk(c int, p *brdf.Params, wantGrad bool, g *[brdf.MaxPara
 		*hs = hl
 	}
 	return loss
+}
+
+// defaultClipSigma is the scale s of a clipped channel's likelihood when
+// Observations.ClipSigma is 0: a relative noise of 5% on one observation
+// (photon and read noise, registration and the lights' calibration
+// together; a judgement, stated here).
+const defaultClipSigma = 0.05
+
+func (o *Observations) clipSigma() float64 {
+	if o.ClipSigma > 0 {
+		return o.ClipSigma
+	}
+	return defaultClipSigma
+}
+
+// normalTail returns n = -log Phi(x) and the inverse Mills ratio lambda =
+// phi(x) / Phi(x) of the standard normal distribution, accurate in both
+// tails: Phi(x) = erfc(-x/sqrt 2)/2 (Abramowitz and Stegun, "Handbook of
+// Mathematical Functions", 1964, 26.2.29), and for x < -30, where erfc
+// underflows, the asymptotic series Phi(x)/phi(x) = (1/t)(1 - 1/t^2 +
+// 3/t^4 - 15/t^6 ...), t = -x (ibid. 26.2.12).
+func normalTail(x float64) (n, lambda float64) {
+	const invSqrt2 = 0.7071067811865476
+	const logSqrt2Pi = 0.9189385332046728 // log sqrt(2 pi)
+	switch {
+	case x < -30:
+		t := -x
+		t2 := 1 / (t * t)
+		ratio := (1 - t2*(1-t2*(3-15*t2))) / t // Phi/phi
+		return 0.5*t*t + logSqrt2Pi - math.Log(ratio), 1 / ratio
+	case x > 0:
+		q := 0.5 * math.Erfc(x*invSqrt2) // 1 - Phi(x)
+		phi := math.Exp(-0.5*x*x - logSqrt2Pi)
+		return -math.Log1p(-q), phi / (1 - q)
+	}
+	p := 0.5 * math.Erfc(-x*invSqrt2)
+	phi := math.Exp(-0.5*x*x - logSqrt2Pi)
+	return -math.Log(p), phi / p
+}
+
+// censoredTerm returns, for the log residual r of a channel clipped at the
+// observed level (model above the clip: r > 0), the loss rho(u) with u the
+// deviance residual s sqrt(2 n(r/s)), its derivative with respect to r and
+// its Gauss-Newton weight (see objective).
+func censoredTerm(r, s, delta float64) (loss, dr, gnWeight float64) {
+	n, lambda := normalTail(r / s)
+	u2 := 2 * s * s * n
+	sq := math.Sqrt(1 + u2/(delta*delta))
+	loss = delta * delta * (sq - 1)
+	dr = -s * lambda / sq
+	if n > 1e-300 {
+		gnWeight = lambda * lambda / (2 * n) / sq
+	}
+	return loss, dr, gnWeight
 }

@@ -70,6 +70,16 @@ type Options struct {
 	// photo decoder marks a pixel saturated; the decoder's own mask is used
 	// (this field only documents the rule for reports). Default 0.98.
 	SaturationLevel float64
+	// RejectSaturated leaves saturated pixels out of the fit (counted under
+	// Rejections.Saturated). By default a saturated pixel is kept and each
+	// clipped channel is a censored observation, a lower bound at the clip
+	// level (objective.go): clipped highlights then still tell the fit
+	// that the lobe is at least that bright there.
+	RejectSaturated bool
+	// ClipSigma is the scale, in log radiance, of a clipped channel's
+	// likelihood (Observations.ClipSigma): about the relative error of one
+	// observation. Default 0.05.
+	ClipSigma float64
 
 	// NearSpecularDegrees is the angle between the half vector and the
 	// shading normal within which an observation counts as near-specular.
@@ -154,6 +164,9 @@ func (o Options) withDefaults() Options {
 	}
 	if o.BorderPixels == 0 {
 		o.BorderPixels = 2
+	}
+	if o.ClipSigma <= 0 {
+		o.ClipSigma = defaultClipSigma
 	}
 	if o.SaturationLevel <= 0 {
 		o.SaturationLevel = 0.98

@@ -38,6 +38,10 @@ type Result struct {
 	// Indirect describes the indirect-light term, empty when it was left
 	// out (indirect.go).
 	Indirect string
+	// Clipped counts the saturated pixels kept as candidates with their
+	// clipped channels as lower bounds (ObservationSet.Clipped); the
+	// segments' Censored say how many were drawn.
+	Clipped int
 }
 
 // indirectWarnShare is the share of indirect light in a segment's modelled
@@ -95,7 +99,14 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 	start := time.Now()
 	opts = opts.withDefaults()
 	res := &Result{Rejections: set.Rejections, PhotosUsed: set.PhotosUsed, Optimizer: opts.Optimizer,
-		Loss: fmt.Sprintf("charbonnier(%g) on log radiance", opts.Delta), Seed: opts.Seed}
+		Loss: fmt.Sprintf("charbonnier(%g) on log radiance", opts.Delta), Seed: opts.Seed, Clipped: set.Clipped}
+	censored := 0
+	for _, so := range set.Segments {
+		censored += so.Obs.NumCensored()
+	}
+	if censored > 0 {
+		res.Loss += fmt.Sprintf("; %d observations with clipped channels enter as censored (Tobit) lower bounds", censored)
+	}
 	if opts.Progress != nil {
 		opts.Progress(Progress{Stage: StageScale, Fraction: observationShare, Segments: len(set.Segments)})
 	}
@@ -240,6 +251,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 				}
 			}
 			share = set.estimateAmbient(params)
+			setClipSigma(set, fits)
 			if err := stage(warm); err != nil {
 				return nil, err
 			}
@@ -247,14 +259,14 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 		// A metal's sigma gets the sensitivity to the indirect light it
 		// reflects, which the model leaves out.
 		for si, so := range set.Segments {
-			if so.Kind != brdf.Metal || !fits[si].Fitted || len(so.Obs.AR) != so.Obs.Len() {
-				continue
+			if so.Kind != brdf.Metal || !fits[si].Fitted || len(so.Obs.AR) != so.Obs.Len() || len(so.Obs.LightRay) > 0 {
+				continue // a metal with directional indirect samples has the term in its model
 			}
 			if err := metalIndirectSigma(ctx, so, fits[si], holds[si], opts); err != nil {
 				return nil, err
 			}
 		}
-		res.Indirect = fmt.Sprintf("one-bounce indirect light from the mesh, %d rays per observation, %d refits", opts.IndirectSamples, opts.IndirectStages)
+		res.Indirect = fmt.Sprintf("one-bounce indirect light from the mesh, %d rays per observation pooled over up to %d neighbours, %d refits", opts.IndirectSamples, 2*poolHalfWidth+1, opts.IndirectStages)
 		res.Loss += "; model: direct light plus one-bounce indirect light off the mesh"
 
 	}
@@ -291,11 +303,24 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 	return res, nil
 }
 
+// setClipSigma gives every segment with clipped channels the noise scale
+// its last fit measured near the clip level (SegmentFit.ClipScale), as the
+// censored likelihood's scale of the next fit: the Tobit model estimates
+// that scale with the other parameters (Amemiya 1984), here between
+// stages. The estimate is kept within [0.005, 0.5].
+func setClipSigma(set *ObservationSet, fits []*SegmentFit) {
+	for si, so := range set.Segments {
+		if f := fits[si]; f != nil && f.Fitted && f.ClipScale > 0 {
+			so.Obs.ClipSigma = clamp(f.ClipScale, 0.005, 0.5)
+		}
+	}
+}
+
 // photoResiduals evaluates every fitted segment's model on its observations
 // and gathers the residuals by photo.
 func photoResiduals(set *ObservationSet, fits []*SegmentFit) []PhotoResidual {
 	type acc struct {
-		n         int
+		n, k      int // observations, residuals
 		sum, sum2 float64
 	}
 	by := map[int]*acc{}
@@ -314,19 +339,24 @@ func photoResiduals(set *ObservationSet, fits []*SegmentFit) []PhotoResidual {
 				a = &acc{}
 				by[int(ob.Photo[i])] = a
 			}
+			cm := ob.censored(i)
 			for c := 0; c < 3; c++ {
+				if cm&(1<<c) != 0 {
+					continue // a lower bound: no residual to average
+				}
 				r := math.Log(math.Max(o[c], 0)+eps) - math.Log(m[c]+eps)
 				a.sum += r
 				a.sum2 += r * r
+				a.k++
 			}
 			a.n++
 		}
 	}
 	var out []PhotoResidual
 	for p, a := range by {
-		mean := a.sum / float64(3*a.n)
-		out = append(out, PhotoResidual{Photo: p, Observations: a.n, Ratio: math.Exp(mean),
-			RMSLog: math.Sqrt(a.sum2 / float64(3*a.n))})
+		k := float64(max(a.k, 1))
+		out = append(out, PhotoResidual{Photo: p, Observations: a.n, Ratio: math.Exp(a.sum / k),
+			RMSLog: math.Sqrt(a.sum2 / k)})
 	}
 	sort.Slice(out, func(i, j int) bool { return out[i].Photo < out[j].Photo })
 	if len(out) >= 3 {
@@ -364,7 +394,7 @@ func median(x []float64) float64 {
 // modelAt is the forward model for observation i: direct light plus the
 // reflected indirect light when the observations carry it.
 func modelAt(ob *Observations, i int, p *brdf.Params) [3]float64 {
-	m := directAt(ob, i, p)
+	m := samplesAt(ob, i, p, true)
 	if len(ob.AR) == ob.Len() && ob.Len() > 0 {
 		r := ambientResponseMatte(p, nil, ob.matteMetal)
 		m[0] += r[0] * float64(ob.AR[i])
@@ -376,10 +406,19 @@ func modelAt(ob *Observations, i int, p *brdf.Params) [3]float64 {
 
 // directAt is the direct-lighting part of the forward model.
 func directAt(ob *Observations, i int, p *brdf.Params) [3]float64 {
+	return samplesAt(ob, i, p, false)
+}
+
+// samplesAt sums f * E over observation i's light samples, the indirect
+// ones (Observations.LightSeg) included when withIndirect is set.
+func samplesAt(ob *Observations, i int, p *brdf.Params, withIndirect bool) [3]float64 {
 	wo := brdf.Vec{X: float64(ob.WoX[i]), Y: float64(ob.WoY[i]), Z: float64(ob.WoZ[i])}
 	s, e := ob.lights(i)
 	var m [3]float64
 	for l := s; l < e; l++ {
+		if !withIndirect && ob.indirectSample(l) {
+			continue
+		}
 		wi := brdf.Vec{X: float64(ob.WiX[l]), Y: float64(ob.WiY[l]), Z: float64(ob.WiZ[l])}
 		f := brdf.Eval(p, wo, wi)
 		m[0] += f[0] * float64(ob.ER[l])

@@ -63,6 +63,9 @@ func solveScale(set *ObservationSet) Scale {
 				a[2] += d[2] * float64(ob.EB[l])
 			}
 			o := [3]float64{float64(ob.R[i]), float64(ob.G[i]), float64(ob.B[i])}
+			if ob.censored(i) != 0 {
+				continue // a clipped pixel gives only lower bounds
+			}
 			for c := 0; c < 3; c++ {
 				num += o[c] * a[c]
 				den += a[c] * a[c]

@@ -53,6 +53,17 @@ type SegmentFit struct {
 	RMSLog float64
 	// Loss is the robust loss at the optimum.
 	Loss float64
+	// Censored is the number of observations with a clipped channel
+	// (Observations.Censored), NearSpecularCensored how many of the
+	// near-specular ones have one.
+	Censored, NearSpecularCensored int
+	// ClipScale is the robust spread (1.4826 times the median absolute
+	// deviation) of the log residuals of the unclipped channels that lie
+	// within a factor of two below their photo's clip level: the noise of
+	// the observations most like the clipped ones, which Run uses as the
+	// next stage's Observations.ClipSigma. 0 when there are fewer than
+	// minClipScaleResiduals of them.
+	ClipScale float64
 	// Passes over the observations, all roughness starts included.
 	Passes int
 	// SigmaPasses are the passes of a metal's sensitivity refit for its
@@ -124,8 +135,15 @@ func fitSegment(ctx context.Context, obs *Observations, kind brdf.Kind, name str
 	}
 	cosNear := opts.nearSpecularCos()
 	for i := 0; i < obs.Len(); i++ {
+		c := obs.censored(i) != 0
+		if c {
+			res.Censored++
+		}
 		if obs.halfCos(i) >= cosNear {
 			res.NearSpecular++
+			if c {
+				res.NearSpecularCensored++
+			}
 		}
 	}
 	if obs.Len() < 4*np {
@@ -267,7 +285,11 @@ func initialGuesses(obs *Observations, kind brdf.Kind, hold *held, opts Options)
 				a[1] += float64(obs.AG[i]) / math.Pi
 				a[2] += float64(obs.AB[i]) / math.Pi
 			}
+			cm := obs.censored(i)
 			for c := 0; c < 3; c++ {
+				if cm&(1<<c) != 0 {
+					continue // a lower bound, not a value
+				}
 				num[c] += o[c] * a[c]
 				den[c] += a[c] * a[c]
 			}
@@ -315,7 +337,11 @@ func initialGuesses(obs *Observations, kind brdf.Kind, hold *held, opts Options)
 				}
 			}
 			o := [3]float64{float64(obs.R[i]), float64(obs.G[i]), float64(obs.B[i])}
+			cm := obs.censored(i)
 			for c := 0; c < 3; c++ {
+				if cm&(1<<c) != 0 {
+					continue
+				}
 				num[c] += a[c] * (o[c] - b[c])
 				den[c] += a[c] * a[c]
 			}
@@ -405,27 +431,42 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 	// uResp is the response whose error the systematic term below measures
 	// (a metal's, 0, is handled by metalIndirectSigma).
 	uResp, uFactor := resp, IndirectRelError
+	clipS := obs.clipSigma()
+	// The clip level of every photo with a clipped channel, for ClipScale.
+	clipOf := map[int32]float64{}
+	for i, cm := range obs.Censored {
+		for c := 0; c < 3; c++ {
+			if cm&(1<<c) != 0 {
+				clipOf[obs.Photo[i]] = float64([]float32{obs.R[i], obs.G[i], obs.B[i]}[c])
+			}
+		}
+	}
+	var nearClip []float64
 	for i := 0; i < obs.Len(); i++ {
 		wo := brdf.Vec{X: float64(obs.WoX[i]), Y: float64(obs.WoY[i]), Z: float64(obs.WoZ[i])}
 		s, e := obs.lights(i)
 		var m [3]float64
 		var dm [3][brdf.MaxParams]float64
+		var mAmb [3]float64
 		for l := s; l < e; l++ {
 			wi := brdf.Vec{X: float64(obs.WiX[l]), Y: float64(obs.WiY[l]), Z: float64(obs.WiZ[l])}
 			ir := [3]float64{float64(obs.ER[l]), float64(obs.EG[l]), float64(obs.EB[l])}
 			f := brdf.EvalGrad(p, wo, wi, &bg)
+			ind := obs.indirectSample(l)
 			for c := 0; c < 3; c++ {
 				m[c] += f[c] * ir[c]
+				if ind {
+					mAmb[c] += f[c] * ir[c] // the directional indirect term
+				}
 				for k := 0; k < np; k++ {
 					dm[c][k] += bg[c][k] * ir[c]
 				}
 			}
 		}
-		var mAmb [3]float64
 		if ambient {
 			a := [3]float64{float64(obs.AR[i]), float64(obs.AG[i]), float64(obs.AB[i])}
 			for c := 0; c < 3; c++ {
-				mAmb[c] = uResp[c] * a[c]
+				mAmb[c] += uResp[c] * a[c]
 				m[c] += resp[c] * a[c]
 				for k := 0; k < np; k++ {
 					dm[c][k] += dR[c][k] * a[c]
@@ -443,9 +484,30 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 			scores[obs.Photo[i]] = g
 		}
 		o := [3]float64{float64(obs.R[i]), float64(obs.G[i]), float64(obs.B[i])}
+		cm := obs.censored(i)
 		for c := 0; c < 3; c++ {
 			me := m[c] + eps
 			r := math.Log(me) - math.Log(math.Max(o[c], 0)+eps)
+			if cm&(1<<c) != 0 {
+				// A clipped channel (objective): its score and
+				// Gauss-Newton weight enter H, the photo scores and the
+				// indirect sensitivity; it has no residual for the
+				// variance, the design effect or the RMS figures.
+				_, dl, gw := censoredTerm(r, clipS, delta)
+				da := mAmb[c] / me
+				for a := 0; a < np; a++ {
+					ja := dm[c][a] / me
+					g[a] += dl * ja
+					u[a] += gw * ja * da
+					for b := 0; b <= a; b++ {
+						h[a*np+b] += gw * ja * dm[c][b] / me
+					}
+				}
+				continue
+			}
+			if l, ok := clipOf[obs.Photo[i]]; ok && o[c] >= l/2 {
+				nearClip = append(nearClip, r)
+			}
 			q := r / delta
 			w := 1 / math.Sqrt(1+q*q)
 			sumW2 += w * r * r
@@ -490,6 +552,13 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 				g[a] = 0
 			}
 		}
+	}
+	if len(nearClip) >= minClipScaleResiduals {
+		med := median(nearClip)
+		for k, r := range nearClip {
+			nearClip[k] = math.Abs(r - med)
+		}
+		res.ClipScale = 1.4826 * median(nearClip) // consistent with a normal sigma (common practice)
 	}
 	res.RMSLog = math.Sqrt(sumR2 / float64(max(nres, 1)))
 	res.RMSE = math.Sqrt(sumLin2 / float64(max(nres, 1)))
@@ -591,7 +660,7 @@ func (res *SegmentFit) uncertainty(obs *Observations, eps, delta float64, hold *
 	// function theorem on the weighted normal equations, u = sum w J dr/dalpha);
 	// that systematic part is added in quadrature with IndirectRelError as
 	// alpha, the documented uncertainty of the estimate.
-	if ambient {
+	if ambient || len(obs.LightRay) > 0 {
 		for a := 0; a < np; a++ {
 			dp := 0.0
 			for b := 0; b < np; b++ {
@@ -633,10 +702,16 @@ func (res *SegmentFit) warn(opts Options, advice string) {
 	res.Params.Vector(v[:0])
 	res.Sigma.Vector(s[:0])
 	names := paramNames(res.Kind)
-	if res.NearSpecular < opts.MinNearSpecular {
-		res.Warnings = append(res.Warnings, fmt.Sprintf(
-			"specular colour and roughness are not identifiable: only %d near-specular observations (need %d); %s",
-			res.NearSpecular, opts.MinNearSpecular, advice))
+	if open := res.NearSpecular - res.NearSpecularCensored; open < opts.MinNearSpecular {
+		if res.NearSpecularCensored > 0 {
+			res.Warnings = append(res.Warnings, fmt.Sprintf(
+				"specular colour and roughness are not identifiable from the highlights: only %d near-specular observations are unclipped (need %d); %d more are clipped, known only as lower bounds, so F0 and roughness rest on the flanks of the lobe; photos of the highlights at a shorter exposure would measure them",
+				open, opts.MinNearSpecular, res.NearSpecularCensored))
+		} else {
+			res.Warnings = append(res.Warnings, fmt.Sprintf(
+				"specular colour and roughness are not identifiable: only %d near-specular observations (need %d); %s",
+				res.NearSpecular, opts.MinNearSpecular, advice))
+		}
 	}
 	var loose []string
 	for k := 0; k < np; k++ {
@@ -694,6 +769,10 @@ func joinList(items []string) string {
 	}
 	return out
 }
+
+// minClipScaleResiduals is the fewest residuals near the clip level from
+// which SegmentFit.ClipScale is estimated.
+const minClipScaleResiduals = 30
 
 // IndirectRelError is the relative uncertainty assigned to the estimated
 // indirect light: the one-bounce estimate leaves out later bounces (their

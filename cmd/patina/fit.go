@@ -249,6 +249,15 @@ func printFitTable(w io.Writer, res *fit.Result, out string) {
 	}
 	sort.Strings(rej)
 	fmt.Fprintf(w, "photos used %d; rejected pixels: %s\n", len(res.PhotosUsed), strings.Join(rej, ", "))
+	if res.Clipped > 0 {
+		var per []string
+		for _, s := range res.Segments {
+			if s.Censored > 0 {
+				per = append(per, fmt.Sprintf("%s %d", s.Name, s.Censored))
+			}
+		}
+		fmt.Fprintf(w, "saturated pixels kept as lower bounds (censored): %d, of which observations drawn: %s\n", res.Clipped, strings.Join(per, ", "))
+	}
 	if res.Scale.Solved {
 		fmt.Fprintf(w, "radiometric scale %.5g ± %.2g (%s)\n", res.Scale.Value, res.Scale.Sigma, strings.Join(res.Scale.Targets, ", "))
 	}
@@ -265,6 +274,7 @@ type fitJSON struct {
 	Scale      float64          `json:"radiometric_scale"`
 	ScaleFound bool             `json:"radiometric_scale_solved"`
 	Rejections map[string]int   `json:"rejections"`
+	Clipped    int              `json:"clipped_kept,omitempty"`
 	Segments   []fitSegmentJSON `json:"segments"`
 	Photos     []fitPhotoJSON   `json:"photos"`
 	Warnings   []string         `json:"warnings,omitempty"`
@@ -280,6 +290,8 @@ type fitSegmentJSON struct {
 	Sigma        *sigmaJSON `json:"sigma,omitempty"`
 	Observations int        `json:"observations"`
 	NearSpecular int        `json:"near_specular"`
+	Censored     int        `json:"censored,omitempty"`
+	NearSpecCens int        `json:"near_specular_censored,omitempty"`
 	RMSE         float64    `json:"rmse"`
 	RMSLog       float64    `json:"rms_log"`
 	Passes       int        `json:"passes"`
@@ -304,11 +316,11 @@ type fitPhotoJSON struct {
 
 func writeFitJSON(w io.Writer, res *fit.Result, out string) error {
 	j := fitJSON{Materials: out, Optimizer: string(res.Optimizer), Passes: res.Passes, Seconds: res.Seconds,
-		Scale: res.Scale.Value, ScaleFound: res.Scale.Solved, Rejections: res.Rejections.Map(), Warnings: res.Warnings}
+		Scale: res.Scale.Value, ScaleFound: res.Scale.Solved, Rejections: res.Rejections.Map(), Clipped: res.Clipped, Warnings: res.Warnings}
 	for _, s := range res.Segments {
 		sj := fitSegmentJSON{Name: s.Name, Model: s.Kind.String(), Fitted: s.Fitted, Diffuse: s.Params.Diffuse,
 			Specular: s.Params.Specular, Roughness: s.Params.Roughness, Observations: s.Observations,
-			NearSpecular: s.NearSpecular, RMSE: s.RMSE, RMSLog: s.RMSLog, Passes: s.Passes, Stop: s.Stop, Locked: s.Locked, Warnings: s.Warnings}
+			NearSpecular: s.NearSpecular, Censored: s.Censored, NearSpecCens: s.NearSpecularCensored, RMSE: s.RMSE, RMSLog: s.RMSLog, Passes: s.Passes, Stop: s.Stop, Locked: s.Locked, Warnings: s.Warnings}
 		sg := sigmaJSON{Diffuse: s.Sigma.Diffuse, Specular: s.Sigma.Specular, Roughness: s.Sigma.Roughness}
 		if s.Fitted && fitFinite(sg.Diffuse[:]) && fitFinite(sg.Specular[:]) && fitFinite([]float64{sg.Roughness}) {
 			sj.Sigma = &sg
