@@ -42,7 +42,7 @@ means, the photo's is estimated with Immerkaer's operator, and the render
 gets the samples the ratio needs, at least -min-spp (default 16) and at most
 -max-spp (default 64; the page says when the cap bound). That count is each
 pixel's most: a pixel stops sooner, after at least -pixel-min-spp samples
-(default 8), once its own noise (or its neighbours', if larger) is below the
+(default 4), once its own noise (or its neighbours', if larger) is below the
 target; -uniform gives every pixel the full count.
 -indirect-clamp F bounds what one path sample may add through two or more
 scatterings to F times the photo's full scale (default 0.25; negative: no

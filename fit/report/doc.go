@@ -38,13 +38,14 @@
 //     (8) samples each of at most PilotPixels (4096) of the same pixels,
 //     every k-th in row order so that they spread over the view, gathered
 //     into a compact film (each copy at other film coordinates, so with
-//     other scrambling seeds). The spread of a pixel's eight means is its
-//     error variance V_j at PilotSPP samples (mean of the channels, times
-//     the radiometric scale squared). Take s^2 = median(V_j) PilotSPP,
-//     divided by the median of a chi-square variable with 7 degrees of
-//     freedom over 7 (0.908, Wilson and Hilferty's approximation), and the
-//     wanted count N = ceil(s^2 / (r sigma_p)^2) with r = Options.NoiseRatio
-//     (default 0.5).
+//     other scrambling seeds). The spread of a pixel's eight means after n
+//     samples, n in PilotCounts (4 and 8, passes of the pilot), is its
+//     error variance V_j(n) at n samples (mean of the channels, times the
+//     radiometric scale squared). Take s^2(n) = median(V_j(n)) n, divided
+//     by the median of a chi-square variable with 7 degrees of freedom
+//     over 7 (0.908, Wilson and Hilferty's approximation), and the wanted
+//     count N, the smallest with s^2(n) / N <= (r sigma_p)^2, n the largest
+//     pilot count at most N and r = Options.NoiseRatio (default 0.5).
 //  3. Render every pixel that can see the mesh with N samples, but at
 //     least Options.MinSPP (default MinSPP, 16) and at most Options.MaxSPP
 //     (default 64, to keep a report to minutes), in which case the report
@@ -53,28 +54,29 @@
 //     it adds about 12 % to the noise of the difference (sqrt(1 + 0.25) =
 //     1.118).
 //  4. Unless Options.Uniform, N is each pixel's most rather than its
-//     count (render.Adaptive): after at least Options.PixelMinSPP (default
-//  8. samples, and between the renderer's passes, a pixel stops once
+//     count (render.Adaptive): between the renderer's passes, once a pixel
+//     has Options.PixelMinSPP samples or more (default 4), it stops when
 //     its own per-sample variance over its samples (or the mean of its
 //     3x3 neighbourhood's, if larger) is below (r sigma_p)^2. Quiet pixels
-//     (direct light on a matte surface) stop early, the noisy ones (indirect
-//     light) get all N.
+//     (direct light on a matte surface) stop early, the noisy ones
+//     (indirect light) get all N.
 //
 // The render noise the report gives is measured by the pilot, not by the
-// render: the median over the pilot's pixels of V_j PilotSPP / n_j, n_j
-// the samples pixel j got, with the same chi-square correction, and the
-// root mean square without it. The pilot's replicates measure the error
-// the renderer's sampler really makes. A film's own variance estimate
-// treats a pixel's samples as independent, but the scrambled Sobol points
-// are stratified: on the small demo capture's four views the replicates'
-// spread at 16 samples was 0.35 to 0.47 of that estimate, at 32 samples
-// 0.29 to 0.38. The error falls faster than 1/N, so the rule's
-// extrapolation from PilotSPP samples errs on the noisy side, and
-// PixelMinSPP is PilotSPP so that no pixel is extrapolated downwards. With
-// adaptive stopping, pixels whose noise estimate came out low stop a
-// little early, and the typical pixel's measured ratio can end slightly
-// above r (0.52 to 0.54 against 0.5 on the small demo); the report gives
-// the measured ratio beside the target.
+// render: the median over the pilot's pixels of V_j(n) n / n_j, n_j the
+// samples pixel j got and n the largest pilot count at most n_j, with the
+// same chi-square correction, and the root mean square without it. The
+// pilot's replicates measure the error the renderer's sampler really
+// makes. A film's own variance estimate treats a pixel's samples as
+// independent, but the scrambled Sobol points are stratified: on the small
+// demo capture's four views the replicates' spread at 16 samples was 0.35
+// to 0.47 of that estimate, at 32 samples 0.29 to 0.38. The error falls
+// faster than 1/N, so extrapolating it by 1/N from the pilot's counts errs
+// on the noisy side, and PixelMinSPP is the smallest count so that no
+// pixel is extrapolated downwards. With adaptive stopping, pixels whose
+// noise estimate came out low stop a little early, and the typical pixel's
+// measured ratio can end slightly above r (0.55 against 0.5 on the small
+// demo's views whose count the rule set; 0.3 to 0.4 on those at the floor
+// of 16); the report gives the measured ratio beside the target.
 //
 // The median, like the photo's estimate, so that both describe the typical
 // pixel. The pilot takes many samples of few pixels because the samples of

@@ -32,10 +32,10 @@ const (
 	// estimate of its own.
 	LowestMinSPP = 2
 	// PixelMinSPP is the default of Options.PixelMinSPP, the fewest
-	// samples adaptive sampling gives any one pixel: PilotSPP, so that
-	// the pilot's error measured at PilotSPP samples bounds every
-	// pixel's.
-	PixelMinSPP       = PilotSPP
+	// samples adaptive sampling gives any one pixel: the pilot's first
+	// count, so that no pixel's error is extrapolated from more samples
+	// than it has.
+	PixelMinSPP       = 4
 	DefaultMaxDepth   = 4
 	DefaultNoiseRatio = 0.5
 	// DefaultIndirectClamp is the default of Options.IndirectClamp: a
@@ -48,17 +48,18 @@ const (
 	// pilot render: PilotReplicates independent renders (other
 	// scrambling seeds) of PilotSPP samples each, of at most PilotPixels
 	// pixels spread over the compared interior. The spread of a pixel's
-	// replicate means is the error variance of a PilotSPP-sample mean as
-	// the renderer's sampler makes it. The variance the film estimates
-	// from one render's samples treats them as independent, but the
-	// sampler's scrambled Sobol points are stratified: on the small demo
-	// capture's four views the replicates' spread at 16 samples was 0.35
-	// to 0.47 of that estimate, and at 32 samples 0.29 to 0.38, falling
-	// faster than 1/N. So the rule, which extrapolates the pilot's error
-	// by 1/N to the render's N >= PilotSPP samples, errs on the noisy
-	// side. Many pixels sampled many times (64 each), because the
-	// variance of a path tracer's samples is dominated by rare bright
-	// paths (indirect light reaching a glossy surface).
+	// replicate means after n samples, for n in PilotCounts (the pilot's
+	// passes), is the error variance of an n-sample mean as the
+	// renderer's sampler makes it. The variance the film estimates from
+	// one render's samples treats them as independent, but the sampler's
+	// scrambled Sobol points are stratified: on the small demo capture's
+	// four views the replicates' spread at 16 samples was 0.35 to 0.47 of
+	// that estimate, and at 32 samples 0.29 to 0.38, falling faster than
+	// 1/N. So the rule, which extrapolates the error measured at the
+	// largest pilot count at or below a render's N by 1/N, errs on the
+	// noisy side. Many samples of each pixel (64), because the variance
+	// of a path tracer's samples is dominated by rare bright paths
+	// (indirect light reaching a glossy surface).
 	PilotSPP        = 8
 	PilotReplicates = 8
 	PilotPixels     = 4096
@@ -67,6 +68,10 @@ const (
 	// pixels each.
 	DefaultPanelWidth = 400
 )
+
+// PilotCounts are the sample counts at which the pilot measures the error:
+// passes of the pilot render, the last PilotSPP.
+var PilotCounts = []int{PixelMinSPP, PilotSPP}
 
 // Options control the holdout comparisons. The zero value is the documented
 // default, field by field.
@@ -288,10 +293,12 @@ type Sampling struct {
 	WantedSPP int  `json:"wanted_spp,omitempty"`
 	// PilotSPP, PilotReplicates and PilotPixels describe the pilot render
 	// the rule measured the render's error on (automatic sampling only):
-	// replicates of PilotSPP samples each of PilotPixels pixels.
-	PilotSPP        int `json:"pilot_spp,omitempty"`
-	PilotReplicates int `json:"pilot_replicates,omitempty"`
-	PilotPixels     int `json:"pilot_pixels,omitempty"`
+	// replicates of PilotSPP samples each of PilotPixels pixels, the
+	// error measured after each of PilotCounts samples.
+	PilotSPP        int   `json:"pilot_spp,omitempty"`
+	PilotCounts     []int `json:"pilot_counts,omitempty"`
+	PilotReplicates int   `json:"pilot_replicates,omitempty"`
+	PilotPixels     int   `json:"pilot_pixels,omitempty"`
 	// RenderedPixels is the number of pixels path-traced: those within one
 	// pixel of a pixel whose centre ray hits the mesh. The rest see no
 	// mesh and are left black.
@@ -485,45 +492,54 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 	}
 	var film *render.Film
 	var gc *gatherCamera
-	var pilotS2 []float64 // the pilot's per-sample variance of each gathered pixel
+	var pilotS2 [][]float64 // the pilot's per-sample variance of each gathered pixel at each of PilotCounts
 	if opts.SPP > 0 {
 		settings.SPP = opts.SPP
 	} else {
 		// The noise rule: a pilot of PilotReplicates independent
 		// renders of PilotSPP samples of at most PilotPixels interior
 		// pixels, spread over the view, measures each pixel's error
-		// variance V_j of a PilotSPP-sample mean from the spread of its
-		// replicate means; s^2 = median(V_j) PilotSPP is the
-		// per-sample variance it implies, and the render gets the N of
-		// chooseSPP. The pilot traces the same pixels' footprints
-		// gathered into a compact film (gatherCamera), so it costs
-		// PilotReplicates * PilotSPP * PilotPixels samples, a fraction
-		// of one sample per pixel of a large view, and its samples are
-		// independent of the render's (other film coordinates, other
-		// scrambling).
+		// variance V_j(n) of an n-sample mean, n in PilotCounts, from
+		// the spread of its replicate means; s^2(n) = median(V_j(n)) n
+		// is the per-sample variance it implies, and the render gets
+		// the N of chooseSPPCounts. The pilot traces the same pixels'
+		// footprints gathered into a compact film (gatherCamera), so it
+		// costs PilotReplicates * PilotSPP * PilotPixels samples, a
+		// fraction of one sample per pixel of a large view, and its
+		// samples are independent of the render's (other film
+		// coordinates, other scrambling).
 		smp.Automatic = true
 		gc = newGatherCamera(v.cam, inner, PilotPixels)
 		gc.reps = PilotReplicates
-		smp.PilotSPP, smp.PilotReplicates, smp.PilotPixels = PilotSPP, PilotReplicates, len(gc.idx)
+		smp.PilotSPP, smp.PilotCounts, smp.PilotReplicates, smp.PilotPixels = PilotSPP, PilotCounts, PilotReplicates, len(gc.idx)
 		ps := settings
 		ps.SPP = PilotSPP
 		ps.OnProgress = func(done, total int64) { progress("render", 0.05*float64(done)/float64(total)) }
-		var med, mean float64
+		pilotS2 = make([][]float64, len(PilotCounts))
+		meds := make([]float64, len(PilotCounts))
 		if len(gc.idx) > 0 {
-			pf, err := render.Render(ctx, s.Scene, gc, ls, s.Params, ps)
-			if err != nil {
+			ps.OnPass = func(p render.Pass) {
+				for c, n := range PilotCounts {
+					if p.SPP == n {
+						pilotS2[c] = replicateVariance(p.Film, gc)
+						for j := range pilotS2[c] {
+							pilotS2[c][j] *= float64(n)
+						}
+					}
+				}
+			}
+			if _, err := render.Render(ctx, s.Scene, gc, ls, s.Params, ps); err != nil {
 				return nil, err
 			}
-			pilotS2 = replicateVariance(pf, gc)
-			for j := range pilotS2 {
-				pilotS2[j] *= PilotSPP
+			for c := range PilotCounts {
+				if pilotS2[c] == nil {
+					return nil, fmt.Errorf("report: pilot count %d is not one of the pilot render's passes", PilotCounts[c])
+				}
+				med, _ := medianMean(pilotS2[c])
+				meds[c] = med / chiSquareMedianRatio(PilotReplicates-1) * s.Scale * s.Scale
 			}
-			med, mean = medianMean(pilotS2)
-			med /= chiSquareMedianRatio(PilotReplicates - 1)
 		}
-		med *= s.Scale * s.Scale
-		mean *= s.Scale * s.Scale
-		settings.SPP, smp.WantedSPP = chooseSPP(med, smp.PhotoNoise, opts.NoiseRatio, opts.MinSPP, opts.MaxSPP)
+		settings.SPP, smp.WantedSPP = chooseSPPCounts(PilotCounts, meds, smp.PhotoNoise, opts.NoiseRatio, opts.MinSPP, opts.MaxSPP)
 		smp.Capped = smp.WantedSPP > settings.SPP
 		// Adaptive sampling: the rule's count is every pixel's most;
 		// a pixel whose own standard error (with its neighbours', see
@@ -551,10 +567,10 @@ func (s *Setup) CompareHoldout(ctx context.Context, pi, k, n int, opts Options) 
 		// pixel got. (The render's own variance estimates treat its
 		// stratified samples as independent, and with adaptive sampling
 		// they are those its stops were decided on.)
-		se2 := make([]float64, 0, len(pilotS2))
-		for j, s2 := range pilotS2 {
-			i := int(gc.idx[j])
-			se2 = append(se2, s2/float64(film.Samples(i%w, i/w)))
+		se2 := make([]float64, 0, len(gc.idx))
+		for j, i := range gc.idx {
+			n := film.Samples(int(i)%w, int(i)/w)
+			se2 = append(se2, pilotS2[pilotCount(PilotCounts, n)][j]/float64(n))
 		}
 		med, mean := medianMean(se2)
 		med /= chiSquareMedianRatio(PilotReplicates - 1)
@@ -814,6 +830,43 @@ func meanSamples(f *render.Film, on []bool) float64 {
 		return 0
 	}
 	return sum / n
+}
+
+// pilotCount is the index in counts (ascending) of the largest count at
+// most n, 0 when n is below them all: the pilot measurement a pixel of n
+// samples is extrapolated from.
+func pilotCount(counts []int, n int) int {
+	c := 0
+	for k, m := range counts {
+		if m <= n {
+			c = k
+		}
+	}
+	return c
+}
+
+// chooseSPPCounts applies the noise rule with per-sample variances s2[c]
+// measured at counts[c] samples (ascending): the smallest N with
+// s2[pilotCount(N)]/N <= (ratio * sigma)^2, then as chooseSPP within
+// [minSPP, maxSPP].
+func chooseSPPCounts(counts []int, s2 []float64, sigma, ratio float64, minSPP, maxSPP int) (spp, wanted int) {
+	last := len(counts) - 1
+	if sigma <= 0 {
+		return chooseSPP(s2[last], sigma, ratio, minSPP, maxSPP)
+	}
+	for c := range counts {
+		// The smallest N of segment [counts[c], counts[c+1]) (from 1 for
+		// the first, unbounded for the last) that s2[c] allows.
+		_, w := chooseSPP(s2[c], sigma, ratio, 1, MaxSPPLimit)
+		if c > 0 {
+			w = max(w, counts[c])
+		}
+		if c == last || w < counts[c+1] {
+			wanted = max(w, minSPP)
+			return min(wanted, maxSPP), wanted
+		}
+	}
+	return 0, 0 // not reached: the last segment always returns
 }
 
 // chooseSPP applies the noise rule: the smallest N with s2/N <= (ratio *

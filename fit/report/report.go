@@ -298,8 +298,8 @@ func Build(ctx context.Context, capPath, matPath string, opts Options, prov Prov
 		r.Settings.PixelMin = opts.PixelMinSPP
 	}
 	if opts.SPP == 0 {
-		r.Settings.SPPRule = fmt.Sprintf("automatic: N = ceil(s^2 / (%.2g sigma_p)^2) samples per pixel, within %d..%d, s^2 the median over the compared pixels away from edges of a pixel's error variance at %d samples times %d (measured by a pilot of %d independent renders of %d samples of up to %d of those pixels spread over the view, from the spread of each pixel's %d means, divided by the chi-square median ratio for %d degrees of freedom), sigma_p the photo's noise over the same pixels (Immerkaer's operator, median form)",
-			opts.NoiseRatio, opts.MinSPP, opts.MaxSPP, PilotSPP, PilotSPP, PilotReplicates, PilotSPP, PilotPixels, PilotReplicates, PilotReplicates-1)
+		r.Settings.SPPRule = fmt.Sprintf("automatic: the smallest N with s^2(n) / N <= (%.2g sigma_p)^2 samples per pixel, within %d..%d, s^2(n) the median over the compared pixels away from edges of a pixel's error variance at n samples times n, n the largest of %v at most N (measured by a pilot of %d independent renders of %d samples of up to %d of those pixels spread over the view, from the spread of each pixel's %d means after n samples, divided by the chi-square median ratio for %d degrees of freedom), sigma_p the photo's noise over the same pixels (Immerkaer's operator, median form)",
+			opts.NoiseRatio, opts.MinSPP, opts.MaxSPP, PilotCounts, PilotReplicates, PilotSPP, PilotPixels, PilotReplicates, PilotReplicates-1)
 		if !opts.Uniform {
 			r.Settings.SPPRule += fmt.Sprintf("; adaptive: N is each pixel's most, and a pixel stops after at least %d samples once its own sample variance over its samples (or, if larger, the mean of its 3x3 neighbourhood's) is below (%.2g sigma_p)^2, decided between passes", opts.PixelMinSPP, opts.NoiseRatio)
 		}

@@ -119,6 +119,39 @@ func TestChooseSPP(t *testing.T) {
 	}
 }
 
+// TestChooseSPPCounts: with the pilot's error measured at several counts,
+// the rule's N is the smallest whose own measurement (the largest count at
+// most N) meets the target; worked by hand, target variance
+// (0.5 x 0.005)^2 = 6.25e-6.
+func TestChooseSPPCounts(t *testing.T) {
+	counts := []int{4, 8}
+	cases := []struct {
+		s2          []float64
+		sigma       float64
+		min, max    int
+		spp, wanted int
+	}{
+		{s2: []float64{1e-4, 1e-4}, sigma: 0.005, min: 2, max: 64, spp: 16, wanted: 16},   // 16 from the count 8
+		{s2: []float64{1e-5, 1e-5}, sigma: 0.005, min: 2, max: 64, spp: 2, wanted: 2},     // 1.6 from the count 4
+		{s2: []float64{1e-4, 3e-5}, sigma: 0.005, min: 2, max: 64, spp: 8, wanted: 8},     // 16 from 4 is past 8; 4.8 from 8, so 8
+		{s2: []float64{4e-5, 1e-4}, sigma: 0.005, min: 2, max: 64, spp: 7, wanted: 7},     // 6.4 from the count 4
+		{s2: []float64{4e-5, 1e-4}, sigma: 0.005, min: 16, max: 64, spp: 16, wanted: 16},  // the floor
+		{s2: []float64{1e-2, 1e-2}, sigma: 0.005, min: 2, max: 64, spp: 64, wanted: 1600}, // capped
+		{s2: []float64{1e-4, 1e-4}, sigma: 0, min: 2, max: 64, spp: 64, wanted: 65},       // no photo noise
+	}
+	for _, c := range cases {
+		spp, wanted := chooseSPPCounts(counts, c.s2, c.sigma, 0.5, c.min, c.max)
+		if spp != c.spp || wanted != c.wanted {
+			t.Errorf("chooseSPPCounts(%v, %v, %g, 0.5, %d, %d) = %d, %d; want %d, %d", counts, c.s2, c.sigma, c.min, c.max, spp, wanted, c.spp, c.wanted)
+		}
+	}
+	for _, c := range []struct{ n, want int }{{1, 0}, {4, 0}, {7, 0}, {8, 1}, {100, 1}} {
+		if got := pilotCount(counts, c.n); got != c.want {
+			t.Errorf("pilotCount(%v, %d) = %d, want %d", counts, c.n, got, c.want)
+		}
+	}
+}
+
 // buildJarSmall builds the report of the fixture with the given materials.
 func buildJarSmall(t *testing.T, segs []materials.Segment, opts Options) (*Report, string) {
 	t.Helper()
