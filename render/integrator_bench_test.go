@@ -306,3 +306,26 @@ func BenchmarkRawRays1M(b *testing.B) {
 	}
 	b.ReportMetric(float64(rays)/(cpuSeconds()-c0)/1e6, "Mrays/cpu-s")
 }
+
+// BenchmarkSamplerPath draws what a two-bounce path under one light
+// draws: the pixel position, and per bounce a light sample, a BRDF sample
+// and a roulette number.
+func BenchmarkSamplerPath(b *testing.B) {
+	var s Sampler
+	var sink float64
+	c0 := cpuSeconds()
+	for i := 0; i < b.N; i++ {
+		s.Start(7, i&1023, i>>10&1023, uint32(i))
+		x, y := s.Get2D()
+		sink += x + y
+		for k := 0; k < 2; k++ {
+			u0, u1 := s.Get2D()
+			u := s.Get3D()
+			sink += u0 + u1 + u[0] + u[1] + u[2] + s.Get1D()
+		}
+	}
+	b.ReportMetric((cpuSeconds()-c0)*1e9/float64(b.N), "cpu-ns/op")
+	if sink == 0 {
+		b.Fatal("no numbers drawn")
+	}
+}

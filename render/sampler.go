@@ -1,5 +1,7 @@
 package render
 
+import "math/bits"
+
 // Sampler yields the uniform numbers of one pixel sample. The numbers are a
 // pure function of (seed, pixel, sample index, dimension), never of thread
 // scheduling, which is what makes a render bit-identical on any number of
@@ -15,6 +17,7 @@ package render
 type Sampler struct {
 	pixel uint64
 	index uint32
+	rev   uint32 // bits.Reverse32(index)
 	group uint64
 }
 
@@ -25,36 +28,46 @@ const inv32 = 1.0 / (1 << 32)
 func (s *Sampler) Start(seed uint64, px, py int, index uint32) {
 	s.pixel = mix64(mix64(seed) ^ (uint64(uint32(px)) | uint64(uint32(py))<<32))
 	s.index = index
+	s.rev = bits.Reverse32(index)
 	s.group = 0
 }
 
-func (s *Sampler) nextSeeds() (shuffled uint32, g uint64) {
+// nextSeeds returns the next group's shuffled index, bit-reversed
+// (Reverse32(owenScramble(index, g)), the form sobolRev takes), and its
+// seed g.
+func (s *Sampler) nextSeeds() (revShuffled uint32, g uint64) {
 	g = mix64(s.pixel + s.group*0xd1b54a32d192ed03)
 	s.group++
-	return owenScramble(s.index, uint32(g)), g
+	return laineKarras(s.rev, uint32(g)), g
+}
+
+// point is owenScramble(sobol(i, dim), seed) for the index i whose
+// reversal is r, with one bit reversal (sobolRev).
+func point(r uint32, dim int, seed uint32) uint32 {
+	return bits.Reverse32(laineKarras(sobolRev(r, dim), seed))
 }
 
 // Get1D returns the next number in [0,1).
 func (s *Sampler) Get1D() float64 {
-	i, g := s.nextSeeds()
-	return float64(owenScramble(sobol(i, 0), uint32(g>>32))) * inv32
+	r, g := s.nextSeeds()
+	return float64(point(r, 0, uint32(g>>32))) * inv32
 }
 
 // Get2D returns the next pair in [0,1)^2.
 func (s *Sampler) Get2D() (float64, float64) {
-	i, g := s.nextSeeds()
+	r, g := s.nextSeeds()
 	h := mix64(g)
-	x := owenScramble(sobol(i, 0), uint32(g>>32))
-	y := owenScramble(sobol(i, 1), uint32(h))
+	x := point(r, 0, uint32(g>>32))
+	y := point(r, 1, uint32(h))
 	return float64(x) * inv32, float64(y) * inv32
 }
 
 // Get3D returns the next triple in [0,1)^3.
 func (s *Sampler) Get3D() [3]float64 {
-	i, g := s.nextSeeds()
+	r, g := s.nextSeeds()
 	h := mix64(g)
-	x := owenScramble(sobol(i, 0), uint32(g>>32))
-	y := owenScramble(sobol(i, 1), uint32(h))
-	z := owenScramble(sobol(i, 2), uint32(h>>32))
+	x := point(r, 0, uint32(g>>32))
+	y := point(r, 1, uint32(h))
+	z := point(r, 2, uint32(h>>32))
 	return [3]float64{float64(x) * inv32, float64(y) * inv32, float64(z) * inv32}
 }

@@ -63,6 +63,34 @@ var sobolBytes = func() (t [sobolDims][4][256]uint32) {
 	return
 }()
 
+// sobolRevBytes is sobolBytes for the map y -> Reverse32(sobol(Reverse32(y),
+// dim)), which is linear over GF(2) like sobol itself: bit b of y selects
+// the reversed direction number of bit 31-b of the index. The sampler's
+// scrambles work on reversed values (owenScramble), so with it a
+// scrambled point costs one reversal instead of three.
+var sobolRevBytes = func() (t [sobolDims][4][256]uint32) {
+	for d := 0; d < sobolDims; d++ {
+		for b := 0; b < 4; b++ {
+			for v := 0; v < 256; v++ {
+				var x uint32
+				for i := 0; i < 8; i++ {
+					if v>>i&1 != 0 {
+						x ^= bits.Reverse32(sobolMatrices[d][31-(8*b+i)])
+					}
+				}
+				t[d][b][v] = x
+			}
+		}
+	}
+	return
+}()
+
+// sobolRev returns Reverse32(sobol(Reverse32(y), dim)).
+func sobolRev(y uint32, dim int) uint32 {
+	t := &sobolRevBytes[dim]
+	return t[0][y&0xff] ^ t[1][y>>8&0xff] ^ t[2][y>>16&0xff] ^ t[3][y>>24]
+}
+
 // sobol returns the 32-bit fraction of point index in dimension dim
 // (dim < sobolDims) of the unscrambled Sobol sequence.
 func sobol(index uint32, dim int) uint32 {
