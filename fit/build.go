@@ -608,7 +608,6 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 						indirectFactors(v.gb.Pos[q], v.gb.Ns[q], ng, lights, scene, offset, v.labelSeg, nseg,
 							opts.IndirectSamples, opts.Seed, pi, q, kbuf, &rays)
 						ob.IndSegs = nseg
-						ob.IndK = append(ob.IndK, kbuf...)
 						for _, r := range rays {
 							ob.AddRay(r.dir, r.seg, r.wo, r.wl, r.e, metal)
 						}

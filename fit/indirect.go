@@ -32,9 +32,11 @@ import (
 //     is pi/N times the sum of that over the rays (Pharr, Jakob and
 //     Humphreys, "Physically Based Rendering", 3rd ed., 2016, sections
 //     13.6.3 and 14.5). The entries depend only on geometry and lights, so
-//     they are made once. (Observations.IndK keeps the same rays summed per
-//     segment as if every neighbour were Lambertian, K_s = (1/N) sum of
-//     E(y), the estimate used before the entries existed: taking the card,
+//     they are made once. (Observations.IndK can hold the same rays summed
+//     per segment as if every neighbour were Lambertian, K_s = (1/N) sum of
+//     E(y), the estimate used before the entries existed and still used
+//     for observations without entries; BuildObservations no longer keeps
+//     it, as the entries cost less memory. Taking the card,
 //     seen by the foot at grazing angles, as Lambertian overstated the
 //     light it sends by about a third, since the diffuse lobe's Fresnel
 //     weighting (1 - S(n.v)) darkens it there.)
@@ -144,10 +146,12 @@ func ambientResponseMatte(p *brdf.Params, dR *[3][brdf.MaxParams]float64, matteM
 	return r
 }
 
-// hasIndirect reports whether the observations carry indirect factors.
+// hasIndirect reports whether indirect rays were cast for the
+// observations (Observations.IndSegs; the rays that met a lit neighbour are
+// in the ray entries or, for observations made without them, IndK).
 func (set *ObservationSet) hasIndirect() bool {
 	for _, so := range set.Segments {
-		if so.Obs.IndSegs > 0 && len(so.Obs.IndK) > 0 {
+		if so.Obs.IndSegs > 0 {
 			return true
 		}
 	}
@@ -168,7 +172,9 @@ func (set *ObservationSet) estimateAmbient(params []brdf.Params) []float64 {
 	for si, so := range set.Segments {
 		ob := &so.Obs
 		n := ob.Len()
-		if ob.IndSegs != ns || len(ob.IndK) != 3*ns*n {
+		withRays := len(ob.RayEnd) == n
+		withK := len(ob.IndK) == 3*ns*n
+		if ob.IndSegs != ns {
 			ob.AR, ob.AG, ob.AB = nil, nil, nil
 			continue
 		}
@@ -176,7 +182,6 @@ func (set *ObservationSet) estimateAmbient(params []brdf.Params) []float64 {
 			ob.AR, ob.AG, ob.AB = make([]float32, n), make([]float32, n), make([]float32, n)
 		}
 		resp := ambientResponse(&params[si], nil)
-		withRays := len(ob.RayEnd) == n
 		// The irradiance every ray entry sends, with its segment's current
 		// parameters: pi f_s(wo_y, wi_y) E_y.
 		sent := make([][3]float64, len(ob.RaySeg))
@@ -222,7 +227,7 @@ func (set *ObservationSet) estimateAmbient(params []brdf.Params) []float64 {
 				for c := range e {
 					e[c] /= float64(hi - lo)
 				}
-			} else {
+			} else if withK {
 				k := ob.IndK[3*ns*i : 3*ns*(i+1)]
 				for s := 0; s < ns; s++ {
 					for c := 0; c < 3; c++ {

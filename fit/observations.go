@@ -41,12 +41,15 @@ type Observations struct {
 	// (stride 3*IndSegs): light of the photo's lights reflected once by
 	// segment s towards the observed point, per unit albedo of s, so that
 	// the indirect irradiance is sum over s of a[s][c] * K[s][c] with a the
-	// segments' albedos (see indirect.go).
+	// segments' albedos (see indirect.go). BuildObservations leaves it
+	// empty and keeps the rays themselves (RayEnd); IndSegs, the number of
+	// segments of the set, is set whenever indirect rays were cast.
 	IndK    []float32
 	IndSegs int
 	// AR, AG, AB, when not empty, are the indirect irradiance at each
-	// observation estimated from IndK and the current albedos; the forward
-	// model adds the reflection of it (ambientResponse).
+	// observation estimated from the ray entries (or IndK) and the current
+	// parameters; the forward model adds the reflection of it
+	// (ambientResponse).
 	AR, AG, AB []float32
 	// matteMetal makes the forward model treat a metal's lobe as matte for
 	// the indirect term (the sensitivity refit of metalIndirectSigma).
