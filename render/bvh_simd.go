@@ -28,7 +28,7 @@ func TraversalPath() string {
 	case !vectorTraversal:
 		return "scalar"
 	case vectorWidth == 8:
-		return "simd: 8-wide tree, Float32x8 box tests (GOEXPERIMENT=simd, AVX2)"
+		return "simd: 8-wide tree, Float32x8 box tests, Float64x4 triangle tests (GOEXPERIMENT=simd, AVX2)"
 	}
 	return "simd: 4-wide tree, Float32x4 box tests (GOEXPERIMENT=simd, AVX2)"
 }
