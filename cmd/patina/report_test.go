@@ -100,6 +100,8 @@ func TestReportBadInput(t *testing.T) {
 		{"report", capPath, "-materials", matPath, "-o", filepath.Join(dir, "no", "such", "dir", "r.html")},
 		{"report", capPath, "-materials", matPath, "-o", filepath.Join(dir, "r.json")},
 		{"report", capPath, "-materials", matPath, "-o", out, "-spp", "-3"},
+		{"report", capPath, "-materials", matPath, "-o", out, "-pixel-min-spp", "1"},
+		{"report", capPath, "-materials", matPath, "-o", out, "-pixel-min-spp", "70000"},
 	}
 	for _, args := range cases {
 		code, _, stderr := runCLI(t, args...)
