@@ -64,7 +64,12 @@ type SegmentFit struct {
 	// next stage's Observations.ClipSigma. 0 when there are fewer than
 	// minClipScaleResiduals of them.
 	ClipScale float64
-	// Passes over the observations, all roughness starts included.
+	// Passes counts the optimisers' evaluations of the loss over all the
+	// observations (with its gradient, and for LM its Gauss-Newton matrix),
+	// the short runs from every roughness start and refused LM steps
+	// included, over all the fitting stages of Run. Not counted: the one
+	// evaluation per fit that computes the uncertainty, and the passes of
+	// a metal's sensitivity refit (SigmaPasses).
 	Passes int
 	// SigmaPasses are the passes of a metal's sensitivity refit for its
 	// sigma (metalIndirectSigma), not counted in Passes.
