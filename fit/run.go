@@ -286,7 +286,7 @@ func Fit(ctx context.Context, set *ObservationSet, opts Options) (*Result, error
 		}
 		if share != nil && sf.Fitted && share[si] > indirectWarnShare {
 			sf.Warnings = append(sf.Warnings, fmt.Sprintf(
-				"about %.0f%% of the light this segment reflects reaches it indirectly, from the rest of the object and the card; the fit models one bounce off matte neighbours, so its colours depend on that estimate: for a firmer result photograph it on a dark matte base or with lights that reach it directly",
+				"about %.0f%% of the light this segment reflects reaches it indirectly, from the rest of the object and the card; the fit models one bounce off the neighbours with their fitted reflectance, so its colours depend on that estimate: for a firmer result photograph it on a dark matte base or with lights that reach it directly",
 				100*share[si]))
 		}
 		res.Segments = append(res.Segments, sf)

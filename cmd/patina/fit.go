@@ -226,8 +226,12 @@ func printFitTable(w io.Writer, res *fit.Result, out string) {
 		if s.Kind != brdf.Dielectric {
 			spec = fmt.Sprintf("%s %s %s", spec, fitPM(s.Params.Specular[1], s.Sigma.Specular[1]), fitPM(s.Params.Specular[2], s.Sigma.Specular[2]))
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%d\t%.1f%%\t%d\n", s.Name, s.Kind, diffuse, spec,
-			fitPM(s.Params.Roughness, s.Sigma.Roughness), s.Observations, s.NearSpecular, 100*s.RMSLog, s.Passes)
+		near := fmt.Sprint(s.NearSpecular)
+		if s.NearSpecularCensored > 0 {
+			near = fmt.Sprintf("%d (%d clipped)", s.NearSpecular, s.NearSpecularCensored)
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%d\t%s\t%.1f%%\t%d\n", s.Name, s.Kind, diffuse, spec,
+			fitPM(s.Params.Roughness, s.Sigma.Roughness), s.Observations, near, 100*s.RMSLog, s.Passes)
 	}
 	tw.Flush()
 	for _, s := range res.Segments {
