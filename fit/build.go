@@ -611,6 +611,10 @@ func addPhoto(ctx context.Context, c *capture.Capture, pi, ci int, d *decodedPho
 						for _, r := range rays {
 							ob.AddRay(r.dir, r.seg, r.wo, r.wl, r.e, metal)
 						}
+						if metal {
+							n := v.gb.Ns[q]
+							ob.nrm = append(ob.nrm, float32(n.X), float32(n.Y), float32(n.Z))
+						}
 					}
 					o.normal[p.seg] = o.normal[p.seg].Add(v.gb.Ns[p.pix])
 					o.pos[p.seg] = o.pos[p.seg].Add(v.gb.Pos[p.pix])

@@ -342,3 +342,46 @@ func TestPooledIndirectRays(t *testing.T) {
 		t.Errorf("pooled variance %.3g is %.3f of one observation's, expected about 1/9", pv, r)
 	}
 }
+
+// TestPoolIndirectFrames: pooling hands a neighbour's ray to an
+// observation in the observation's own local frame. Two observations of
+// one photo with normals 30 degrees apart each have one ray, given in
+// world coordinates here; after pooling, each must hold both rays, as the
+// same world directions seen from its own frame (render.NewFrame), with
+// weight 1/2.
+func TestPoolIndirectFrames(t *testing.T) {
+	normals := []render.Vec3{render.V3(0, 0, 1), render.V3(0.5, 0, math.Sqrt(0.75))}
+	rays := []render.Vec3{render.V3(0.6, 0, 0.8), render.V3(0, 0.28, 0.96)}
+	ob := &Observations{}
+	for i, n := range normals {
+		f := render.NewFrame(n)
+		ob.AddLight(brdf.Vec{Z: 1}, [3]float64{1, 1, 1})
+		ob.Add(f.ToLocal(render.V3(0, 0, 1)), [3]float64{1, 1, 1}, 0)
+		ob.AddRay(f.ToLocal(rays[i]), 1, brdf.Vec{Z: 1}, brdf.Vec{Z: 1}, [3]float64{1, 1, 1}, true)
+		ob.nrm = append(ob.nrm, float32(n.X), float32(n.Y), float32(n.Z))
+	}
+	ob.poolIndirect(1)
+	for i, n := range normals {
+		f := render.NewFrame(n)
+		s, e := ob.lights(i)
+		var got []brdf.Vec
+		for l := s; l < e; l++ {
+			if ob.LightRay[l] < 0 {
+				continue
+			}
+			if w := ob.lightWeight(l); math.Abs(w-0.5) > 1e-7 {
+				t.Errorf("observation %d: weight %g, want 1/2", i, w)
+			}
+			got = append(got, brdf.Vec{X: float64(ob.WiX[l]), Y: float64(ob.WiY[l]), Z: float64(ob.WiZ[l])})
+		}
+		if len(got) != 2 {
+			t.Fatalf("observation %d: %d indirect samples, want 2", i, len(got))
+		}
+		for j, r := range rays {
+			want := f.ToLocal(r)
+			if d := math.Abs(got[j].X-want.X) + math.Abs(got[j].Y-want.Y) + math.Abs(got[j].Z-want.Z); d > 1e-6 {
+				t.Errorf("observation %d, ray %d: local %.6f, want %.6f", i, j, got[j], want)
+			}
+		}
+	}
+}

@@ -1,6 +1,9 @@
 package fit
 
-import "patina/brdf"
+import (
+	"patina/brdf"
+	"patina/render"
+)
 
 // Observations holds the trustworthy pixels of one segment in the compact
 // form the objective streams over: structure of arrays, float32, with every
@@ -81,6 +84,10 @@ type Observations struct {
 	// (poolIndirect: an observation shares its neighbours' rays); empty
 	// means 1.
 	LightW []float32
+	// nrm holds, while the observations are built, every observation's
+	// world shading normal (3 per observation) for poolIndirect, which
+	// needs each observation's local frame.
+	nrm []float32
 
 	// Clipped observations (optional).
 
@@ -215,14 +222,20 @@ func (o *Observations) photoRun(i, h int) (lo, hi int) {
 // reads as a rougher, darker metal. Pooling is the interpolation of
 // indirect light between nearby points of irradiance caching (Ward,
 // Rubinstein and Clear, "A ray tracing solution for diffuse
-// interreflection", SIGGRAPH 1988), here by simple averaging; a
-// neighbour's rays are taken in its own local frame, which differs little
-// from the observation's over a few pixels.
+// interreflection", SIGGRAPH 1988), here by simple averaging. A
+// neighbour's rays are turned from its local frame into the observation's
+// (through the world shading normals kept while building, nrm); without
+// them they are taken as they are.
 func (o *Observations) poolIndirect(h int) {
+	defer func() { o.nrm = nil }()
 	if len(o.LightRay) == 0 || h <= 0 {
 		return
 	}
 	n := o.Len()
+	frames := len(o.nrm) == 3*n
+	frame := func(i int) render.Frame {
+		return render.NewFrame(render.V3(float64(o.nrm[3*i]), float64(o.nrm[3*i+1]), float64(o.nrm[3*i+2])))
+	}
 	var wx, wy, wz, er, eg, eb, ww []float32
 	var lr []int32
 	end := make([]int32, n)
@@ -237,11 +250,27 @@ func (o *Observations) poolIndirect(h int) {
 		}
 		lo, hi := o.photoRun(i, h)
 		w := float32(1 / float64(hi-lo))
+		var fi render.Frame
+		if frames {
+			fi = frame(i)
+		}
 		for k := lo; k < hi; k++ {
+			var fk render.Frame
+			if frames && k != i {
+				fk = frame(k)
+			}
 			s, e := o.lights(k)
 			for l := s; l < e; l++ {
 				if o.LightRay[l] >= 0 {
-					wx, wy, wz = append(wx, o.WiX[l]), append(wy, o.WiY[l]), append(wz, o.WiZ[l])
+					dx, dy, dz := o.WiX[l], o.WiY[l], o.WiZ[l]
+					if frames && k != i {
+						d := fi.ToLocal(fk.ToWorld(brdf.Vec{X: float64(dx), Y: float64(dy), Z: float64(dz)}))
+						if d.Z <= 0 {
+							continue // below this observation's horizon
+						}
+						dx, dy, dz = float32(d.X), float32(d.Y), float32(d.Z)
+					}
+					wx, wy, wz = append(wx, dx), append(wy, dy), append(wz, dz)
 					er, eg, eb = append(er, 0), append(eg, 0), append(eb, 0)
 					lr, ww = append(lr, o.LightRay[l]), append(ww, w*float32(o.lightWeight(l)))
 				}
@@ -416,6 +445,11 @@ func (o *Observations) Append(other *Observations) {
 	if other.IndSegs > 0 {
 		o.IndSegs = other.IndSegs
 		o.IndK = append(o.IndK, other.IndK...)
+	}
+	if len(o.nrm) == 3*n0 && len(other.nrm) == 3*other.Len() {
+		o.nrm = append(o.nrm, other.nrm...)
+	} else {
+		o.nrm = nil
 	}
 }
 
