@@ -2,7 +2,8 @@ package report
 
 import (
 	"math"
-	"sort"
+	"math/bits"
+	"slices"
 )
 
 // madToSigma is 1 / Phi^-1(3/4): the median absolute value of a zero-mean
@@ -60,10 +61,67 @@ func PhotoNoise(pix []float32, w, h int, valid []bool) float64 {
 	if len(r) == 0 {
 		return 0
 	}
-	sort.Float64s(r)
-	med := r[len(r)/2]
-	if len(r)%2 == 0 {
-		med = (r[len(r)/2-1] + r[len(r)/2]) / 2
+	return median(r) * madToSigma / 6
+}
+
+// median returns the median of v (the mean of the two middle values when
+// their number is even), reordering v: quickselect (Hoare's, median-of-three
+// pivot) in linear expected time, falling back to a sort after too many
+// rounds for the size, so the worst case is n log n.
+func median(v []float64) float64 {
+	n := len(v)
+	m := selectK(v, n/2)
+	if n%2 == 1 {
+		return m
 	}
-	return med * madToSigma / 6
+	// v[:n/2] holds the n/2 smallest: the other middle value is their
+	// largest.
+	return (slices.Max(v[:n/2]) + m) / 2
+}
+
+// selectK reorders v so that v[k] is its k-th smallest value (0-based),
+// none before it larger and none after it smaller, and returns it.
+func selectK(v []float64, k int) float64 {
+	lo, hi := 0, len(v)-1
+	budget := 2 * bits.Len(uint(len(v)))
+	for hi-lo > 16 {
+		if budget--; budget < 0 {
+			break
+		}
+		mid := lo + (hi-lo)/2
+		if v[mid] < v[lo] {
+			v[mid], v[lo] = v[lo], v[mid]
+		}
+		if v[hi] < v[lo] {
+			v[hi], v[lo] = v[lo], v[hi]
+		}
+		if v[hi] < v[mid] {
+			v[hi], v[mid] = v[mid], v[hi]
+		}
+		p := v[mid]
+		i, j := lo, hi
+		for i <= j {
+			for v[i] < p {
+				i++
+			}
+			for v[j] > p {
+				j--
+			}
+			if i <= j {
+				v[i], v[j] = v[j], v[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return v[k] // j < k < i: v[k] equals the pivot
+		}
+	}
+	slices.Sort(v[lo : hi+1])
+	return v[k]
 }

@@ -14,6 +14,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"sort"
 	"strings"
 	"testing"
 
@@ -407,4 +408,37 @@ func TestAutomaticEqualsFixed(t *testing.T) {
 		}
 	}
 	t.Logf("%d spp (wanted %d)", n, auto.Holdouts[0].Sampling.WantedSPP)
+}
+
+// TestMedianAgainstSort: the quickselect median equals the middle of the
+// sorted values (the mean of the two middle ones for an even count), on
+// random, repeated, sorted and reversed inputs of many sizes.
+func TestMedianAgainstSort(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for n := 1; n < 300; n += 7 {
+		for kind := 0; kind < 4; kind++ {
+			v := make([]float64, n)
+			for i := range v {
+				switch kind {
+				case 0:
+					v[i] = rng.Float64()
+				case 1:
+					v[i] = float64(rng.IntN(4))
+				case 2:
+					v[i] = float64(i)
+				case 3:
+					v[i] = float64(n - i)
+				}
+			}
+			s := append([]float64(nil), v...)
+			sort.Float64s(s)
+			want := s[n/2]
+			if n%2 == 0 {
+				want = (s[n/2-1] + s[n/2]) / 2
+			}
+			if got := median(v); got != want {
+				t.Fatalf("n %d kind %d: median %v, sorted %v", n, kind, got, want)
+			}
+		}
+	}
 }
