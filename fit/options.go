@@ -78,7 +78,9 @@ type Options struct {
 	RejectSaturated bool
 	// ClipSigma is the scale, in log radiance, of a clipped channel's
 	// likelihood (Observations.ClipSigma): about the relative error of one
-	// observation. Default 0.05.
+	// observation. Run uses it for the first fit of each segment and then
+	// the scale that fit measured near the clip level (SegmentFit.ClipScale).
+	// Default 0.05.
 	ClipSigma float64
 
 	// NearSpecularDegrees is the angle between the half vector and the
