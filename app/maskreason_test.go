@@ -94,7 +94,7 @@ func TestMaskOverlayUnderExposed(t *testing.T) {
 	}
 	want := before
 	// Saturated pixels are no longer saturated, and dark like the rest.
-	want.UnderExposed, want.Kept, want.Saturated = before.UnderExposed+before.Kept+before.Saturated, 0, 0
+	want.UnderExposed, want.Kept, want.Saturated, want.Clipped = before.UnderExposed+before.Kept+before.Saturated+before.Clipped, 0, 0, 0
 	if after != want {
 		t.Errorf("counts after darkening %+v, want %+v", after, want)
 	}
@@ -166,5 +166,94 @@ func TestWorkbenchMaskLegendUnderExposed(t *testing.T) {
 	walk(wb.photos.root)
 	if !found {
 		t.Error("no under-exposed swatch in the mask legend")
+	}
+}
+
+// brightenPhoto rewrites photo i of the session's capture (a temporary
+// copy) with every code value multiplied by mul and clamped at full scale,
+// as a 16-bit PNG of the same size.
+func brightenPhoto(t *testing.T, s *Session, i int, mul uint32) {
+	t.Helper()
+	path := s.Capture.Resolve(s.Capture.Photos[i].File)
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	src, err := png.Decode(f)
+	f.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	b := src.Bounds()
+	dst := image.NewRGBA64(b)
+	clamp := func(v uint32) uint16 { return uint16(min(v*mul, 0xffff)) }
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			r, g, bl, _ := src.At(x, y).RGBA()
+			dst.SetRGBA64(x, y, color.RGBA64{clamp(r), clamp(g), clamp(bl), 0xffff})
+		}
+	}
+	out, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := png.Encode(out, dst); err != nil {
+		t.Fatal(err)
+	}
+	if err := out.Close(); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestMaskOverlayClipped checks the "clipped, kept" reason of the mask
+// overlay against the fit's own pixel classifier. Photo 1 of the fixture
+// is rewritten 6 times brighter, which drives many channels to full scale:
+// the fit keeps such a pixel, its clipped channels as lower bounds
+// (fit.PixelClipped), and the overlay must paint the same pixels in the
+// clipped colour, count exactly what it paints, and keep the total.
+func TestMaskOverlayClipped(t *testing.T) {
+	s := openFixture(t)
+	s.SelectPhoto(1)
+	waitJob(t, s, "photo")
+	s.SetOverlays(Overlays{Mask: true})
+	waitJob(t, s, "overlay")
+	before := s.PhotoRejections()
+
+	brightenPhoto(t, s, 1, 6)
+	s.SelectPhoto(1)
+	waitJob(t, s, "photo")
+	waitJob(t, s, "overlay")
+	after := s.PhotoRejections()
+	if after.Total() != before.Total() {
+		t.Fatalf("pixels on the object: %d before, %d after", before.Total(), after.Total())
+	}
+	if after.Clipped == 0 || after.Clipped <= before.Clipped {
+		t.Fatalf("brightening clipped no more pixels: before %+v, after %+v", before, after)
+	}
+	_, ov := s.PhotoImage()
+	if n := overlayCount(ov, colClipped); n != after.Clipped {
+		t.Errorf("%d pixels painted clipped, %d counted", n, after.Clipped)
+	}
+
+	reasons, w, h, err := fit.RejectionMap(context.Background(), s.Capture, 1, fit.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	one := image.NewRGBA(image.Rect(0, 0, 1, 1))
+	blend(one, 0, 0, colClipped)
+	fitClipped, both := 0, 0
+	for k := 0; k < w*h; k++ {
+		if reasons[k] != fit.PixelClipped {
+			continue
+		}
+		fitClipped++
+		if string(ov.Pix[4*k:4*k+4]) == string(one.Pix) {
+			both++
+		}
+	}
+	// As for the under-exposed reason, the overlay's own geometry tests
+	// may differ near the silhouette; the bulk must agree.
+	if fitClipped == 0 || float64(both) < 0.9*float64(fitClipped) || float64(both) < 0.9*float64(after.Clipped) {
+		t.Errorf("fit.RejectionMap: %d clipped pixels, the overlay %d, %d in common", fitClipped, after.Clipped, both)
 	}
 }

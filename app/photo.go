@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 
 	"patina/assets/photo"
+	"patina/fit"
 	"patina/render"
 )
 
@@ -28,11 +29,15 @@ type photoView struct {
 // RejectionCounts counts the pixels the mask overlay marks, by reason.
 type RejectionCounts struct {
 	Border, Unassigned, Grazing, Masked, Saturated, UnderExposed, Shadow, Kept int
+	// Clipped counts the saturated pixels the fit keeps, their clipped
+	// channels as lower bounds (fit.PixelClipped); Saturated counts those
+	// it leaves out (no channel it can tell clipped).
+	Clipped int
 }
 
 // Total is the number of pixels counted: every pixel on the object.
 func (r RejectionCounts) Total() int {
-	return r.Border + r.Unassigned + r.Grazing + r.Masked + r.Saturated + r.UnderExposed + r.Shadow + r.Kept
+	return r.Border + r.Unassigned + r.Grazing + r.Masked + r.Saturated + r.UnderExposed + r.Shadow + r.Kept + r.Clipped
 }
 
 // Reason colours of the mask overlay.
@@ -42,6 +47,7 @@ var (
 	colGrazing    = color.RGBA{255, 150, 0, 170}
 	colMasked     = color.RGBA{40, 40, 40, 200}
 	colSaturated  = color.RGBA{255, 0, 200, 200}
+	colClipped    = color.RGBA{255, 255, 255, 150}
 	colUnderExp   = color.RGBA{150, 90, 30, 200}
 	colShadow     = color.RGBA{40, 80, 255, 170}
 	colWire       = color.RGBA{120, 255, 120, 110}
@@ -131,7 +137,7 @@ func (s *Session) SelectPhoto(i int) {
 	}
 	cam, camErr := s.photoCamera(i)
 	lights, lightErr := s.photoLights(i)
-	in := overlayInput{ov: s.Overlays, sc: s.Scene, labelSeg: s.LabelSeg, gb: gb, cam: cam, lights: lights, floor: s.noiseFloor(i)}
+	in := overlayInput{ov: s.Overlays, sc: s.Scene, labelSeg: s.LabelSeg, gb: gb, cam: cam, lights: lights, floor: s.noiseFloor(i), clip: s.clipLevel(i)}
 	file := c.Photos[i].File
 	s.setStatus("Loading "+filepath.Base(file), 0)
 	var pv photoView
@@ -187,7 +193,7 @@ func (s *Session) refreshOverlay() {
 	}
 	lights, _ := s.photoLights(pv.index)
 	in := overlayInput{ov: s.Overlays, sc: s.Scene, labelSeg: s.LabelSeg, gb: pv.gb, cam: cam, lights: lights, img: pv.img, mask: pv.mask,
-		floor: s.noiseFloor(pv.index)}
+		floor: s.noiseFloor(pv.index), clip: s.clipLevel(pv.index)}
 	idx := pv.index
 	s.jobs.start("overlay", func(ctx context.Context) error { return in.build(ctx) }, func(err error) {
 		s.post(func() {
@@ -214,6 +220,8 @@ type overlayInput struct {
 	counts   RejectionCounts
 	// floor is the radiance below which a pixel is under-exposed.
 	floor float64
+	// clip is the radiance at which the fit takes a channel as clipped.
+	clip float64
 }
 
 // overlayNoiseFloor mirrors the fit's default noise floor
@@ -229,6 +237,17 @@ func (s *Session) noiseFloor(i int) float64 {
 		e = d.Exposure
 	}
 	return overlayNoiseFloor * e
+}
+
+// clipLevel is the radiance of photo i's decoded pixels at which the fit
+// takes a channel as clipped (fit.ClipLevel); +Inf when the photo's
+// decoding cannot be read, so that no pixel counts as kept clipped.
+func (s *Session) clipLevel(i int) float64 {
+	d, err := s.Capture.Decoding(i)
+	if err != nil {
+		return math.Inf(1)
+	}
+	return fit.ClipLevel(d)
 }
 
 // Fit rejection rules mirrored for display (the fit's defaults, see
@@ -358,6 +377,12 @@ func (in *overlayInput) reject(x, y, k int, seg func(int) int) (color.RGBA, bool
 		return colMasked, true
 	}
 	if in.img.Saturated != nil && in.img.Saturated[k] {
+		// The fit keeps a saturated pixel whose clipped channels it can
+		// tell, as lower bounds on the radiance (fit.PixelClipped).
+		if fit.ClippedChannels(in.img.Pix[3*k:3*k+3], in.clip) != 0 {
+			in.counts.Clipped++
+			return colClipped, true
+		}
 		in.counts.Saturated++
 		return colSaturated, true
 	}

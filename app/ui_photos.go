@@ -169,7 +169,7 @@ func legendSwatches() fyne.CanvasObject {
 	items := []struct {
 		c    color.RGBA
 		name string
-	}{{colBorder, "edge"}, {colGrazing, "grazing"}, {colShadow, "shadow"}, {colSaturated, "saturated"}, {colUnderExp, "under-exposed"}, {colMasked, "masked"}, {colUnassigned, "no segment"}}
+	}{{colBorder, "edge"}, {colGrazing, "grazing"}, {colShadow, "shadow"}, {colSaturated, "saturated"}, {colClipped, "clipped, kept"}, {colUnderExp, "under-exposed"}, {colMasked, "masked"}, {colUnassigned, "no segment"}}
 	box := container.NewGridWithColumns(3)
 	for _, it := range items {
 		c := it.c
@@ -257,8 +257,8 @@ func (v *photosView) showInfo() {
 		filepath.Base(p.File), p.Camera, strings.Join(ls, ", "), enc, p.Exposure.Multiplier(), orNone(p.Mask)))
 	if s.Overlays.Mask && s.PhotoLoaded() {
 		rc := s.PhotoRejections()
-		v.legend.SetText(wrapText(fmt.Sprintf("Kept %d pixels; left out: edge %d, grazing %d, shadow %d, saturated %d, under-exposed %d, masked %d, no segment %d (the fit's default rules).",
-			rc.Kept, rc.Border, rc.Grazing, rc.Shadow, rc.Saturated, rc.UnderExposed, rc.Masked, rc.Unassigned), 42))
+		v.legend.SetText(wrapText(fmt.Sprintf("Kept %d pixels, and %d clipped ones as lower bounds; left out: edge %d, grazing %d, shadow %d, saturated %d, under-exposed %d, masked %d, no segment %d (the fit's default rules).",
+			rc.Kept, rc.Clipped, rc.Border, rc.Grazing, rc.Shadow, rc.Saturated, rc.UnderExposed, rc.Masked, rc.Unassigned), 42))
 	} else {
 		v.legend.SetText(wrapText("Wireframe and segment colours are drawn through this photo's calibrated camera: if they do not sit on the object, the calibration is off.", 42))
 	}

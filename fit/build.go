@@ -419,6 +419,17 @@ type decodedPhoto struct {
 	err  error
 }
 
+// ClipLevel is the linear radiance, in the capture's scale, at which the
+// fit takes a channel of a photo decoded with d as clipped (see clipLevel);
+// a view that shows the fit's pixel rules uses it with ClippedChannels.
+func ClipLevel(d photo.Decoding) float64 { return clipLevel(d) }
+
+// ClippedChannels returns the channels of a decoded pixel (linear RGB)
+// that the fit treats as clipped at level clip (bit 0 red, 1 green, 2
+// blue). A saturated pixel with none is left out as saturated; one with
+// some is kept, its clipped channels as lower bounds.
+func ClippedChannels(px []float32, clip float64) uint8 { return clipMask(px, clip) }
+
 // clipLevel returns the linear radiance, in the capture's scale, of the
 // code value at which d's decoder marks a channel saturated (the
 // threshold times the white level), decoded as the photo decoder does
