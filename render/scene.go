@@ -85,7 +85,14 @@ func NewScene(m *Mesh, threads int) (*Scene, error) {
 	cb, all := parallelRefs(m, refs, threads)
 	bd := &builder{refs: refs, threads: threads, packed: packedLeaves()}
 	if threads > 1 {
-		bd.sem = make(chan struct{}, threads-1)
+		// When the build may use every core, subtrees get more goroutines
+		// than cores: the scheduler then keeps all cores busy when sibling
+		// subtrees differ in size or another process takes a core.
+		extra := threads - 1
+		if threads >= runtime.GOMAXPROCS(0) {
+			extra = 8*threads - 1
+		}
+		bd.sem = make(chan struct{}, extra)
 	}
 	nslots := max(nt, 1)
 	bd.nodes = make([]bvhNode, nslots)
