@@ -65,7 +65,7 @@ func (e *MeshError) Error() string {
 }
 
 // NewScene builds the BVH over m with the binned SAH on up to threads
-// goroutines (threads <= 0: one per core). The hierarchy, and so every
+// cores (threads <= 0: every core). The hierarchy, and so every
 // query result, is the same for any thread count.
 func NewScene(m *Mesh, threads int) (*Scene, error) {
 	if m == nil {
