@@ -22,15 +22,16 @@ var vectorTraversal = archsimd.X86.AVX2()
 // tests set 4 to check the Float32x4 loop.
 var vectorWidth = 8
 
-// TraversalPath names the traversal loops queries use, for reports.
-func TraversalPath() string {
+// TraversalPath names the traversal loops the scene's queries run, for
+// reports.
+func (s *Scene) TraversalPath() string {
 	switch {
-	case !vectorTraversal:
-		return "scalar"
-	case vectorWidth == 8:
+	case s.vec.n8 != nil:
 		return "simd: 8-wide tree, Float32x8 box tests, Float64x4 triangle tests (GOEXPERIMENT=simd, AVX2)"
+	case vectorTraversal:
+		return "simd: 4-wide tree, Float32x4 box tests (GOEXPERIMENT=simd, AVX2)"
 	}
-	return "simd: 4-wide tree, Float32x4 box tests (GOEXPERIMENT=simd, AVX2)"
+	return "scalar"
 }
 
 // packedLeaves reports whether NewScene builds for the 8-wide loop, whose

@@ -8,8 +8,9 @@ package render
 // vectorTraversal is false: this build has no vector loops.
 const vectorTraversal = false
 
-// TraversalPath names the traversal loops queries use, for reports.
-func TraversalPath() string { return "scalar" }
+// TraversalPath names the traversal loops the scene's queries run, for
+// reports.
+func (s *Scene) TraversalPath() string { return "scalar" }
 
 // packedLeaves is false: leaves are tested one triangle at a time.
 func packedLeaves() bool { return false }

@@ -2,7 +2,10 @@
 
 package render
 
-import "testing"
+import (
+	"strings"
+	"testing"
+)
 
 // fourWide makes NewScene build the 4-wide tree until the returned
 // function is called.
@@ -27,13 +30,25 @@ func TestOtherLoopsInVectorBuild(t *testing.T) {
 		t.Run("HitAgainstMollerTrumbore", TestHitAgainstMollerTrumbore)
 		t.Run("DegenerateInputs", TestDegenerateInputs)
 	}
+	path := func(t *testing.T, want string) {
+		s, err := NewScene(cubeMesh(), 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := s.TraversalPath(); !strings.HasPrefix(got, want) {
+			t.Fatalf("TraversalPath %q, want %q...", got, want)
+		}
+	}
+	path(t, "simd: 8-wide")
 	t.Run("vector4", func(t *testing.T) {
 		defer fourWide()()
+		path(t, "simd: 4-wide")
 		checks(t)
 	})
 	t.Run("scalar", func(t *testing.T) {
 		vectorTraversal = false
 		defer func() { vectorTraversal = true }()
+		path(t, "scalar")
 		checks(t)
 	})
 }

@@ -211,7 +211,7 @@ func runTrace(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	}
 	if *asJSON {
 		// The JSON keys are fixed; the traversal loops go to stderr.
-		fmt.Fprintf(stderr, "trace: traversal %s\n", render.TraversalPath())
+		fmt.Fprintf(stderr, "trace: traversal %s\n", s.TraversalPath())
 		b, err := json.Marshal(res)
 		if err != nil {
 			return err
@@ -226,7 +226,7 @@ func runTrace(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	}
 	fmt.Fprintf(stdout, "mesh        %s: %d triangles, %d nodes, %d leaves, depth %d\n", *meshPath, bs.Triangles, bs.Nodes, bs.Leaves, bs.Depth)
 	fmt.Fprintf(stdout, "mode        %s, %d thread(s)\n", mode, *threads)
-	fmt.Fprintf(stdout, "traversal   %s\n", render.TraversalPath())
+	fmt.Fprintf(stdout, "traversal   %s\n", s.TraversalPath())
 	fmt.Fprintf(stdout, "rays        %d\n", res.Rays)
 	fmt.Fprintf(stdout, "hits        %d\n", res.Hits)
 	fmt.Fprintf(stdout, "sum_t       %.6f\n", res.SumT)
