@@ -3,6 +3,7 @@ package render
 import (
 	"context"
 	"math"
+	"slices"
 	"testing"
 
 	"patina/brdf"
@@ -154,7 +155,7 @@ func TestAllot(t *testing.T) {
 	}
 	f.SPP = n
 	a := &Adaptive{MinSPP: 3, Variance: 2e-5}
-	goal, more := allot(f, nil, a, 40)
+	goal, more := allot(f, nil, a, 40, 2)
 	var wantMore int64
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
@@ -181,5 +182,12 @@ func TestAllot(t *testing.T) {
 	}
 	if more != wantMore {
 		t.Errorf("%d samples to take, want %d", more, wantMore)
+	}
+	// The same on one thread and on more threads than rows.
+	for _, th := range []int{1, 9} {
+		g, m := allot(f, nil, a, 40, th)
+		if m != more || !slices.Equal(g, goal) {
+			t.Errorf("%d threads: goals differ from 2 threads' (%d and %d samples to take)", th, m, more)
+		}
 	}
 }

@@ -289,7 +289,7 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 		spp0 = spp1
 		if a := s.Adaptive; a != nil && spp1 >= a.MinSPP && spp1 < s.SPP {
 			var more int64
-			it.goal, more = allot(film, it.goal, a, s.SPP)
+			it.goal, more = allot(film, it.goal, a, s.SPP, s.Threads)
 			if more == 0 {
 				break
 			}
@@ -301,57 +301,84 @@ func Render(ctx context.Context, sc *Scene, cam Camera, lights *Lights, material
 
 // allot sets every pixel's sample goal by Adaptive's rule from the film
 // as it stands (into goal, allocated if nil) and returns the goals and
-// the number of samples still to take.
-func allot(f *Film, goal []int32, a *Adaptive, maxSPP int) ([]int32, int64) {
+// the number of samples still to take. Rows are shared among threads
+// goroutines; every pixel's goal is a function of the film alone.
+func allot(f *Film, goal []int32, a *Adaptive, maxSPP, threads int) ([]int32, int64) {
 	w, h := f.Width, f.Height
 	if goal == nil {
 		goal = make([]int32, w*h)
 	}
-	// Per-sample variance of every pixel, mean of the channels.
-	s2 := make([]float64, w*h)
-	for i := range s2 {
-		v := f.variance(i)
-		s2[i] = (v[0] + v[1] + v[2]) / 3 * float64(f.samples(i))
-		if math.IsNaN(s2[i]) || math.IsInf(s2[i], 0) {
-			s2[i] = math.Inf(1)
-		}
-	}
-	// Mean over the (2r+1)^2 neighbourhood, clipped at the borders:
-	// box sums along rows, then along columns.
+	// Per-sample variance of every pixel, mean of the channels, and its
+	// sums along rows over the (2r+1)-wide window, clipped at the borders.
 	r := a.radius()
+	s2 := make([]float64, w*h)
 	row := make([]float64, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			var sum float64
-			for xx := max(0, x-r); xx <= min(w-1, x+r); xx++ {
-				sum += s2[y*w+xx]
+	rows(h, threads, func(y0, y1 int) {
+		for i := y0 * w; i < y1*w; i++ {
+			v := f.variance(i)
+			s2[i] = (v[0] + v[1] + v[2]) / 3 * float64(f.samples(i))
+			if math.IsNaN(s2[i]) || math.IsInf(s2[i], 0) {
+				s2[i] = math.Inf(1)
 			}
-			row[y*w+x] = sum
 		}
-	}
+		for y := y0; y < y1; y++ {
+			for x := 0; x < w; x++ {
+				var sum float64
+				for xx := max(0, x-r); xx <= min(w-1, x+r); xx++ {
+					sum += s2[y*w+xx]
+				}
+				row[y*w+x] = sum
+			}
+		}
+	})
+	// Then along columns: the neighbourhood's mean, and the goal.
+	mores := make([]int64, h)
+	rows(h, threads, func(y0, y1 int) {
+		for y := y0; y < y1; y++ {
+			ny := min(h-1, y+r) - max(0, y-r) + 1
+			var more int64
+			for x := 0; x < w; x++ {
+				var sum float64
+				for yy := max(0, y-r); yy <= min(h-1, y+r); yy++ {
+					sum += row[yy*w+x]
+				}
+				n := ny * (min(w-1, x+r) - max(0, x-r) + 1)
+				i := y*w + x
+				v := math.Max(s2[i], sum/float64(n))
+				g := float64(maxSPP)
+				if want := math.Ceil(v / a.Variance); want < g {
+					g = want
+				}
+				gi := int32(max(a.MinSPP, int(g)))
+				goal[i] = gi
+				if c := f.count[i]; gi > c {
+					more += int64(gi - c)
+				}
+			}
+			mores[y] = more
+		}
+	})
 	var more int64
-	for y := 0; y < h; y++ {
-		ny := min(h-1, y+r) - max(0, y-r) + 1
-		for x := 0; x < w; x++ {
-			var sum float64
-			for yy := max(0, y-r); yy <= min(h-1, y+r); yy++ {
-				sum += row[yy*w+x]
-			}
-			n := ny * (min(w-1, x+r) - max(0, x-r) + 1)
-			i := y*w + x
-			v := math.Max(s2[i], sum/float64(n))
-			g := float64(maxSPP)
-			if want := math.Ceil(v / a.Variance); want < g {
-				g = want
-			}
-			gi := int32(max(a.MinSPP, int(g)))
-			goal[i] = gi
-			if c := f.count[i]; gi > c {
-				more += int64(gi - c)
-			}
-		}
+	for _, m := range mores {
+		more += m
 	}
 	return goal, more
+}
+
+// rows runs f over [0, h) in bands of rows on up to threads goroutines
+// and waits for them.
+func rows(h, threads int, f func(y0, y1 int)) {
+	n := max(1, min(threads, h))
+	var wg sync.WaitGroup
+	for k := 0; k < n; k++ {
+		y0, y1 := k*h/n, (k+1)*h/n
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			f(y0, y1)
+		}()
+	}
+	wg.Wait()
 }
 
 // integrator holds what every path of one render shares.

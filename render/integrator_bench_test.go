@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"os"
+	"runtime"
 	"strconv"
 	"sync"
 	"syscall"
@@ -327,5 +328,38 @@ func BenchmarkSamplerPath(b *testing.B) {
 	b.ReportMetric((cpuSeconds()-c0)*1e9/float64(b.N), "cpu-ns/op")
 	if sink == 0 {
 		b.Fatal("no numbers drawn")
+	}
+}
+
+// BenchmarkAllot1280x960 is one adaptive allotment of a 1280x960 film (the
+// step between passes), on one thread and on all.
+func BenchmarkAllot1280x960(b *testing.B) {
+	f, err := NewFilm(1280, 960)
+	if err != nil {
+		b.Fatal(err)
+	}
+	f.count = make([]int32, 1280*960)
+	for i := 0; i < 1280*960; i++ {
+		for k := 0; k < 4; k++ {
+			v := float64((i*7+k*13)%17) * 0.01
+			f.add(i, brdf.RGB{v, v, v}, 1)
+		}
+	}
+	f.SPP = 4
+	a := &Adaptive{MinSPP: 4, Variance: 1e-4}
+	for _, th := range []int{1, 0} {
+		name := "all"
+		if th == 1 {
+			name = "one"
+		}
+		b.Run(name, func(b *testing.B) {
+			if th == 0 {
+				th = runtime.GOMAXPROCS(0)
+			}
+			var goal []int32
+			for b.Loop() {
+				goal, _ = allot(f, goal, a, 64, th)
+			}
+		})
 	}
 }
