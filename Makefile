@@ -6,7 +6,7 @@ REV      := $(shell git rev-parse --short=12 HEAD 2>/dev/null)
 LDFLAGS  := -X main.revision=$(REV)
 DEMO_DIR := $(BUILD)/demo
 
-.PHONY: all deps build build-nogui demo test vet fmt-check bench fuzz gui-shot clean
+.PHONY: all deps build build-nogui demo test vet fmt-check bench bench-rays fuzz gui-shot clean
 
 all: build
 
@@ -46,6 +46,19 @@ fmt-check:
 # Benchmarks: figures are goals, quoted as medians; compare runs with benchstat.
 bench: deps
 	$(GO) test -run '^$$' -bench . -benchmem -count 5 ./... | tee $(BUILD)/bench.txt
+
+# Ray throughput side by side with Embree 3 (needs libembree-dev): the
+# default scalar build and the GOEXPERIMENT=simd vector build, interleaved,
+# on the same 1M-triangle mesh and ray files (../shared/bench/embree/).
+EMBREE_BENCH ?= ../shared/bench/embree
+RAYS_DIR     ?= /tmp/patina-raybench
+bench-rays:
+	CGO_ENABLED=0 $(GO) build -tags nogui -o $(BUILD)/patina-scalar ./cmd/patina
+	CGO_ENABLED=0 GOEXPERIMENT=simd $(GO) build -tags nogui -o $(BUILD)/patina-vector ./cmd/patina
+	@for i in 1 2 3; do \
+	  echo "== scalar, round $$i"; sh $(EMBREE_BENCH)/compare.sh $(BUILD)/patina-scalar $(RAYS_DIR); \
+	  echo "== vector, round $$i"; sh $(EMBREE_BENCH)/compare.sh $(BUILD)/patina-vector $(RAYS_DIR); \
+	done
 
 # Fuzz every target for FUZZTIME each (default 60s).
 FUZZTIME ?= 60s
