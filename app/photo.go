@@ -47,7 +47,7 @@ var (
 	colGrazing    = color.RGBA{255, 150, 0, 170}
 	colMasked     = color.RGBA{40, 40, 40, 200}
 	colSaturated  = color.RGBA{255, 0, 200, 200}
-	colClipped    = color.RGBA{255, 255, 255, 150}
+	colClipped    = color.RGBA{190, 255, 0, 200}
 	colUnderExp   = color.RGBA{150, 90, 30, 200}
 	colShadow     = color.RGBA{40, 80, 255, 170}
 	colWire       = color.RGBA{120, 255, 120, 110}
