@@ -17,17 +17,18 @@ import (
 	"patina/fit"
 )
 
-// darkenPhoto rewrites photo i of the session's capture (a temporary copy)
-// with every code value divided by div, as a 16-bit PNG of the same size.
-func darkenPhoto(t *testing.T, s *Session, i int, div uint32) {
+// rewritePhoto rewrites photo i of the session's capture (a temporary
+// copy) as a 16-bit PNG of the same size, each 16-bit code value v of the
+// red, green and blue channels replaced by f(v).
+func rewritePhoto(t *testing.T, s *Session, i int, f func(v uint32) uint16) {
 	t.Helper()
 	path := s.Capture.Resolve(s.Capture.Photos[i].File)
-	f, err := os.Open(path)
+	in, err := os.Open(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	src, err := png.Decode(f)
-	f.Close()
+	src, err := png.Decode(in)
+	in.Close()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -36,7 +37,7 @@ func darkenPhoto(t *testing.T, s *Session, i int, div uint32) {
 	for y := b.Min.Y; y < b.Max.Y; y++ {
 		for x := b.Min.X; x < b.Max.X; x++ {
 			r, g, bl, _ := src.At(x, y).RGBA()
-			dst.SetRGBA64(x, y, color.RGBA64{uint16(r / div), uint16(g / div), uint16(bl / div), 0xffff})
+			dst.SetRGBA64(x, y, color.RGBA64{f(r), f(g), f(bl), 0xffff})
 		}
 	}
 	out, err := os.Create(path)
@@ -48,6 +49,45 @@ func darkenPhoto(t *testing.T, s *Session, i int, div uint32) {
 	}
 	if err := out.Close(); err != nil {
 		t.Fatal(err)
+	}
+}
+
+// darkenPhoto rewrites photo i with every code value divided by div.
+func darkenPhoto(t *testing.T, s *Session, i int, div uint32) {
+	rewritePhoto(t, s, i, func(v uint32) uint16 { return uint16(v / div) })
+}
+
+// brightenPhoto rewrites photo i with every code value multiplied by mul
+// and clamped at full scale.
+func brightenPhoto(t *testing.T, s *Session, i int, mul uint32) {
+	rewritePhoto(t, s, i, func(v uint32) uint16 { return uint16(min(v*mul, 0xffff)) })
+}
+
+// agreesWithFit checks that the overlay ov paints in colour c (nearly) the
+// pixels the fit's own classifier (fit.RejectionMap on photo 1) gives
+// reason r, where the overlay counted counted such pixels. The overlay's
+// geometry tests (border, grazing) are its own, so a few pixels near the
+// silhouette may differ; the bulk must agree.
+func agreesWithFit(t *testing.T, s *Session, ov *image.RGBA, r fit.PixelReason, c color.RGBA, counted int, name string) {
+	t.Helper()
+	reasons, w, h, err := fit.RejectionMap(context.Background(), s.Capture, 1, fit.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	one := image.NewRGBA(image.Rect(0, 0, 1, 1))
+	blend(one, 0, 0, c)
+	inFit, both := 0, 0
+	for k := 0; k < w*h; k++ {
+		if reasons[k] != r {
+			continue
+		}
+		inFit++
+		if string(ov.Pix[4*k:4*k+4]) == string(one.Pix) {
+			both++
+		}
+	}
+	if inFit == 0 || float64(both) < 0.9*float64(inFit) || float64(both) < 0.9*float64(counted) {
+		t.Errorf("fit.RejectionMap: %d %s pixels, the overlay %d, %d in common", inFit, name, counted, both)
 	}
 }
 
@@ -103,27 +143,7 @@ func TestMaskOverlayUnderExposed(t *testing.T) {
 		t.Errorf("%d pixels painted under-exposed, %d counted", n, after.UnderExposed)
 	}
 
-	reasons, w, h, err := fit.RejectionMap(context.Background(), s.Capture, 1, fit.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	one := image.NewRGBA(image.Rect(0, 0, 1, 1))
-	blend(one, 0, 0, colUnderExp)
-	fitUnder, both := 0, 0
-	for k := 0; k < w*h; k++ {
-		if reasons[k] != fit.PixelUnderExposed {
-			continue
-		}
-		fitUnder++
-		if string(ov.Pix[4*k:4*k+4]) == string(one.Pix) {
-			both++
-		}
-	}
-	// The overlay's geometry tests (border, grazing) are its own, so a few
-	// pixels near the silhouette may differ; the bulk must agree.
-	if fitUnder == 0 || float64(both) < 0.9*float64(fitUnder) || float64(both) < 0.9*float64(after.UnderExposed) {
-		t.Errorf("fit.RejectionMap: %d under-exposed pixels, the overlay %d, %d in common", fitUnder, after.UnderExposed, both)
-	}
+	agreesWithFit(t, s, ov, fit.PixelUnderExposed, colUnderExp, after.UnderExposed, "under-exposed")
 }
 
 // TestWorkbenchMaskLegendUnderExposed checks that the photo view lists
@@ -169,42 +189,6 @@ func TestWorkbenchMaskLegendUnderExposed(t *testing.T) {
 	}
 }
 
-// brightenPhoto rewrites photo i of the session's capture (a temporary
-// copy) with every code value multiplied by mul and clamped at full scale,
-// as a 16-bit PNG of the same size.
-func brightenPhoto(t *testing.T, s *Session, i int, mul uint32) {
-	t.Helper()
-	path := s.Capture.Resolve(s.Capture.Photos[i].File)
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	src, err := png.Decode(f)
-	f.Close()
-	if err != nil {
-		t.Fatal(err)
-	}
-	b := src.Bounds()
-	dst := image.NewRGBA64(b)
-	clamp := func(v uint32) uint16 { return uint16(min(v*mul, 0xffff)) }
-	for y := b.Min.Y; y < b.Max.Y; y++ {
-		for x := b.Min.X; x < b.Max.X; x++ {
-			r, g, bl, _ := src.At(x, y).RGBA()
-			dst.SetRGBA64(x, y, color.RGBA64{clamp(r), clamp(g), clamp(bl), 0xffff})
-		}
-	}
-	out, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := png.Encode(out, dst); err != nil {
-		t.Fatal(err)
-	}
-	if err := out.Close(); err != nil {
-		t.Fatal(err)
-	}
-}
-
 // TestMaskOverlayClipped checks the "clipped, kept" reason of the mask
 // overlay against the fit's own pixel classifier. Photo 1 of the fixture
 // is rewritten 6 times brighter, which drives many channels to full scale:
@@ -235,25 +219,5 @@ func TestMaskOverlayClipped(t *testing.T) {
 		t.Errorf("%d pixels painted clipped, %d counted", n, after.Clipped)
 	}
 
-	reasons, w, h, err := fit.RejectionMap(context.Background(), s.Capture, 1, fit.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	one := image.NewRGBA(image.Rect(0, 0, 1, 1))
-	blend(one, 0, 0, colClipped)
-	fitClipped, both := 0, 0
-	for k := 0; k < w*h; k++ {
-		if reasons[k] != fit.PixelClipped {
-			continue
-		}
-		fitClipped++
-		if string(ov.Pix[4*k:4*k+4]) == string(one.Pix) {
-			both++
-		}
-	}
-	// As for the under-exposed reason, the overlay's own geometry tests
-	// may differ near the silhouette; the bulk must agree.
-	if fitClipped == 0 || float64(both) < 0.9*float64(fitClipped) || float64(both) < 0.9*float64(after.Clipped) {
-		t.Errorf("fit.RejectionMap: %d clipped pixels, the overlay %d, %d in common", fitClipped, after.Clipped, both)
-	}
+	agreesWithFit(t, s, ov, fit.PixelClipped, colClipped, after.Clipped, "clipped")
 }
